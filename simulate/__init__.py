@@ -1,0 +1,36 @@
+"""swaysim: time-history analysis of shear-frame buildings under earthquake and wind loads.
+
+The public API::
+
+    import simulate as ss
+    frame = ss.ShearFrame(mass=[...], stiffness=[...], height=[...],
+                          damping=ss.Rayleigh(ratio=0.05, modes=(1, 3)))
+    modes = frame.modes()
+    rec = ss.read_record("motions/demo_lakeshore_a.txt", units="g")
+    ds = ss.run(frame, [rec], method="newmark")
+    env = ss.envelopes(ds)
+
+Results support, and never replace, the judgement of a qualified engineer.
+"""
+
+from simulate._version import __version__
+from simulate.errors import ConfigError, InputError, RecordError
+from simulate.excitation import (
+    FloorForces, Record, harmonic_floor_force, harmonic_ground_motion, read_record,
+)
+from simulate.kernels import METHODS, NEWMARK_SCHEMES
+from simulate.model import (
+    MassProportional, ModalDamping, NoDamping, Rayleigh, ShearFrame, StiffnessProportional,
+    stiffness_for_period,
+)
+from simulate.results import envelopes, read_dataset, write_dataset
+from simulate.settings import CAUTION, STANDARD_GRAVITY
+from simulate.suite import run
+
+__all__ = [
+    "__version__", "CAUTION", "STANDARD_GRAVITY", "ConfigError", "InputError", "RecordError",
+    "FloorForces", "Record", "harmonic_floor_force", "harmonic_ground_motion", "read_record",
+    "METHODS", "NEWMARK_SCHEMES", "MassProportional", "ModalDamping", "NoDamping", "Rayleigh",
+    "ShearFrame", "StiffnessProportional", "stiffness_for_period", "envelopes", "read_dataset",
+    "write_dataset", "run",
+]

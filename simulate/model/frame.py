@@ -1,0 +1,210 @@
+"""The shear-frame model: one lumped mass per floor, one storey spring between floors.
+
+Floors and storeys are numbered from the ground up. Floor 0 is the ground; floors
+1..N carry the masses; storey i joins floor i-1 and floor i.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from functools import cached_property
+
+import numpy as np
+
+from simulate.errors import InputError
+from simulate.model.damping import Damping, Rayleigh
+
+
+def _storey_array(name: str, value, n: int | None, *, positive: bool = True,
+                  allow_zero: bool = False) -> np.ndarray:
+    """Broadcast a scalar or list to a float64 array of storey values and validate it."""
+    try:
+        arr = np.array(value, dtype=float)
+    except (TypeError, ValueError):
+        raise InputError(f"{name} must be a number or a list of numbers, got {value!r}") from None
+    if arr.ndim == 0:
+        if n is None:
+            arr = arr.reshape(1)
+        else:
+            arr = np.full(n, float(arr))
+    if arr.ndim != 1 or arr.size == 0:
+        raise InputError(f"{name} must be a number or a flat list of numbers")
+    if n is not None and arr.size != n:
+        raise InputError(f"{name} has {arr.size} values but the frame has {n} storeys")
+    bad = ~np.isfinite(arr)
+    if positive:
+        bad |= (arr < 0.0) if allow_zero else (arr <= 0.0)
+    if bad.any():
+        i = int(np.flatnonzero(bad)[0])
+        kind = "non-negative" if allow_zero else "positive"
+        raise InputError(f"{name} must be finite and {kind}; storey {i + 1} has {arr[i]!r}")
+    return np.ascontiguousarray(arr)
+
+
+@dataclass(frozen=True, eq=False)
+class ShearFrame:
+    """A shear frame with lumped floor masses and storey springs.
+
+    Parameters
+    ----------
+    mass : float or (N,) array
+        Floor masses, kg, floor 1 first.
+    stiffness : float or (N,) array
+        Elastic storey stiffnesses, N/m, storey 1 (bottom) first.
+    height : float or (N,) array
+        Storey heights, m.
+    yield_shear : None or float or (N,) array
+        Storey yield shears, N (None: linear storeys).
+    hardening : float or (N,) array
+        Post-yield stiffness ratio alpha (0 <= alpha < 1).
+    gravity_load : None or float or (N,) array
+        Axial gravity load carried by each storey, N (for P-Delta).
+    damping : Damping
+        Damping model; default 5 % Rayleigh in modes 1 and 3.
+    name : str
+        Label for reports.
+
+    The length of the first array-like argument sets N; scalars are broadcast.
+    """
+
+    mass: np.ndarray
+    stiffness: np.ndarray
+    height: np.ndarray
+    yield_shear: np.ndarray | None = None
+    hardening: np.ndarray | float = 0.0
+    gravity_load: np.ndarray | None = None
+    damping: Damping = field(default_factory=lambda: Rayleigh(ratio=0.05, modes=(1, 3)))
+    name: str = "frame"
+
+    def __post_init__(self):
+        n = None
+        for value in (self.mass, self.stiffness, self.height):
+            if np.ndim(value) == 1:
+                n = len(value)
+                break
+        n = 1 if n is None else n
+        object.__setattr__(self, "mass", _storey_array("mass", self.mass, n))
+        object.__setattr__(self, "stiffness", _storey_array("stiffness", self.stiffness, n))
+        object.__setattr__(self, "height", _storey_array("height", self.height, n))
+        if self.yield_shear is not None:
+            object.__setattr__(self, "yield_shear", _storey_array("yield_shear", self.yield_shear, n))
+        h = _storey_array("hardening", self.hardening, n, allow_zero=True)
+        if (h >= 1.0).any():
+            i = int(np.flatnonzero(h >= 1.0)[0])
+            raise InputError(f"hardening must be in [0, 1); storey {i + 1} has {h[i]!r}")
+        object.__setattr__(self, "hardening", h)
+        if self.gravity_load is not None:
+            object.__setattr__(self, "gravity_load",
+                               _storey_array("gravity_load", self.gravity_load, n, allow_zero=True))
+        if not isinstance(self.damping, Damping):
+            raise InputError(f"damping must be a damping model such as Rayleigh(...), got {self.damping!r}")
+        for arr in (self.mass, self.stiffness, self.height):
+            arr.setflags(write=False)
+
+    # ------------------------------------------------------------------ sizes
+    @property
+    def n_storeys(self) -> int:
+        return int(self.mass.size)
+
+    @property
+    def total_mass(self) -> float:
+        return float(self.mass.sum())
+
+    @property
+    def total_height(self) -> float:
+        return float(self.height.sum())
+
+    @property
+    def is_linear(self) -> bool:
+        """True when no storey can yield and no gravity load is applied."""
+        return self.yield_shear is None and self.gravity_load is None
+
+    # --------------------------------------------------------------- matrices
+    def mass_matrix(self) -> np.ndarray:
+        """(N, N) diagonal mass matrix, kg."""
+        return np.diag(self.mass)
+
+    def stiffness_diagonals(self) -> tuple[np.ndarray, np.ndarray]:
+        """Main diagonal (N,) and off-diagonal (N-1,) of the elastic stiffness matrix, N/m."""
+        k = self.stiffness
+        diag = k.copy()
+        diag[:-1] += k[1:]
+        off = -k[1:].copy()
+        return diag, off
+
+    def stiffness_matrix(self) -> np.ndarray:
+        """(N, N) tridiagonal elastic stiffness matrix, N/m."""
+        diag, off = self.stiffness_diagonals()
+        return np.diag(diag) + np.diag(off, 1) + np.diag(off, -1)
+
+    @cached_property
+    def _undamped(self) -> tuple[np.ndarray, np.ndarray]:
+        from simulate.model.modal import undamped_modes
+
+        return undamped_modes(self.mass, *self.stiffness_diagonals())
+
+    def damping_matrix(self) -> np.ndarray:
+        """(N, N) viscous damping matrix, N s/m, from the frame's damping model."""
+        omega, phi = self._undamped
+        C = self.damping.matrix(self.mass_matrix(), self.stiffness_matrix(), omega, phi)
+        return 0.5 * (C + C.T)
+
+    def state_matrix(self) -> np.ndarray:
+        """(2N, 2N) first-order system matrix A of x' = A x + B p, x = [u; v]."""
+        from simulate.model.modal import state_matrix
+
+        return state_matrix(self.mass, self.stiffness_matrix(), self.damping_matrix())
+
+    # ------------------------------------------------------------------ modes
+    def modes(self):
+        """Modal and state-space properties as an ``xarray.Dataset`` (see ``simulate.model.modal``)."""
+        from simulate.model.modal import modes_dataset
+
+        return modes_dataset(self)
+
+    def periods(self) -> np.ndarray:
+        """Undamped natural periods, s, longest first."""
+        return 2.0 * np.pi / self._undamped[0]
+
+    def with_stiffness(self, stiffness) -> "ShearFrame":
+        """A copy of this frame with other storey stiffnesses."""
+        return ShearFrame(mass=self.mass, stiffness=stiffness, height=self.height,
+                          yield_shear=self.yield_shear, hardening=self.hardening,
+                          gravity_load=self.gravity_load, damping=self.damping, name=self.name)
+
+    def __repr__(self) -> str:
+        return (f"ShearFrame(name={self.name!r}, storeys={self.n_storeys}, "
+                f"T1={self.periods()[0]:.4g} s, damping={self.damping.describe()!r})")
+
+
+def stiffness_for_period(mass, height, period: float, profile) -> np.ndarray:
+    """Storey stiffnesses with the relative ``profile`` that give fundamental ``period``.
+
+    The fundamental eigenvalue w1^2 of K = kappa K(profile) scales linearly with
+    kappa, so kappa = (2 pi / T1)^2 / w1^2(profile) is exact.
+
+    Parameters
+    ----------
+    mass, height : (N,) arrays
+    period : float, target fundamental period, s
+    profile : (N,) array of relative storey stiffnesses (bottom first), all > 0
+    """
+    from simulate.model.modal import undamped_modes
+
+    period = float(period)
+    if not np.isfinite(period) or period <= 0:
+        raise InputError(f"target period must be positive, got {period!r}")
+    profile = _storey_array("stiffness_profile", profile, len(mass))
+    diag = profile.copy()
+    diag[:-1] += profile[1:]
+    omega, _ = undamped_modes(np.asarray(mass, float), diag, -profile[1:])
+    kappa = (2.0 * np.pi / period) ** 2 / omega[0] ** 2
+    return kappa * profile
+
+
+#: Named relative stiffness profiles (bottom storey first), as functions of N.
+STIFFNESS_PROFILES = {
+    "uniform": lambda n: np.ones(n),
+    # decreasing linearly from 1 at the bottom storey to 1/N at the top
+    "linear": lambda n: (n - np.arange(n)) / n,
+}
