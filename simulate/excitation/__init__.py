@@ -1,0 +1,14 @@
+"""Excitation: base acceleration records, floor forces, harmonic loads and record readers."""
+
+from simulate.excitation.harmonic import harmonic_floor_force, harmonic_ground_motion
+from simulate.excitation.loads import FloorForces
+from simulate.excitation.readers import read_record
+from simulate.excitation.record import Record
+
+__all__ = [
+    "Record",
+    "FloorForces",
+    "read_record",
+    "harmonic_ground_motion",
+    "harmonic_floor_force",
+]
