@@ -34,3 +34,5 @@ __all__ = [
     "ShearFrame", "StiffnessProportional", "stiffness_for_period", "envelopes", "read_dataset",
     "write_dataset", "run",
 ]
+from simulate.config import Config, load_config  # noqa: E402  (after the layers it builds on)
+__all__ += ["Config", "load_config"]

@@ -1,0 +1,30 @@
+"""The ``swaysim`` command line: one click group, one module per command.
+
+User mistakes print ``swaysim: error: <one line naming the file and key or line>``
+and exit with status 2; ``--debug`` shows the traceback.
+"""
+
+from __future__ import annotations
+
+import click
+
+from simulate._version import __version__
+from simulate.cli.modes import modes_command
+from simulate.cli.options import ErrorReportingGroup, debug_option
+from simulate.cli.run import run_command
+
+__all__ = ["main"]
+
+
+@click.group(cls=ErrorReportingGroup, context_settings={"help_option_names": ["-h", "--help"]})
+@click.version_option(__version__, "--version", prog_name="swaysim", message="%(prog)s %(version)s")
+@debug_option
+def main():
+    """swaysim: earthquake and harmonic loads through shear-frame building models.
+
+    Results support, and never replace, the judgement of a qualified engineer.
+    """
+
+
+main.add_command(run_command)
+main.add_command(modes_command)
