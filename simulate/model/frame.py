@@ -77,12 +77,16 @@ class ShearFrame:
     name: str = "frame"
 
     def __post_init__(self):
-        n = None
-        for value in (self.mass, self.stiffness, self.height):
-            if np.ndim(value) == 1:
-                n = len(value)
-                break
-        n = 1 if n is None else n
+        lengths = {name: len(value) for name, value in
+                   (("mass", self.mass), ("stiffness", self.stiffness), ("height", self.height),
+                    ("yield_shear", self.yield_shear), ("hardening", self.hardening),
+                    ("gravity_load", self.gravity_load))
+                   if value is not None and np.ndim(value) == 1}
+        if len(set(lengths.values())) > 1:
+            listed = ", ".join(f"{name} {count}" for name, count in lengths.items())
+            raise InputError(f"storey lists differ in length ({listed}); give one value per storey "
+                             f"or a single number for each")
+        n = next(iter(lengths.values()), 1)
         object.__setattr__(self, "mass", _storey_array("mass", self.mass, n))
         object.__setattr__(self, "stiffness", _storey_array("stiffness", self.stiffness, n))
         object.__setattr__(self, "height", _storey_array("height", self.height, n))

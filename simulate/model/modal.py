@@ -14,6 +14,10 @@ import numpy as np
 import scipy.linalg
 
 
+#: A roof component below this fraction of a mode's largest component counts as zero.
+ROOF_TOLERANCE = 1e-9
+
+
 def undamped_modes(mass: np.ndarray, k_diag: np.ndarray, k_off: np.ndarray):
     """Natural frequencies and mass-normalised shapes of a lumped-mass chain.
 
@@ -37,7 +41,12 @@ def undamped_modes(mass: np.ndarray, k_diag: np.ndarray, k_off: np.ndarray):
         lam, vec = scipy.linalg.eigh_tridiagonal(d, e)
     lam = np.maximum(lam, 0.0)
     phi = vec * s[:, None]
-    phi = phi * np.sign(phi[-1, :])[None, :]
+    # sign convention: roof component positive; a mode whose roof component is
+    # numerically zero takes the sign of its largest component instead
+    roof = phi[-1, :]
+    largest = phi[np.argmax(np.abs(phi), axis=0), np.arange(phi.shape[1])]
+    ref = np.where(np.abs(roof) > ROOF_TOLERANCE * np.abs(largest), roof, largest)
+    phi = phi * np.where(ref < 0.0, -1.0, 1.0)[None, :]
     return np.sqrt(lam), phi
 
 
@@ -90,9 +99,13 @@ def modes_dataset(frame):
     L = phi.T @ (m * iota)                       # L_n with M_n = 1 (mass-normalised)
     eff_mass = L**2                              # M_n* = L_n^2 / M_n
     roof = phi[-1, :]
-    shape = phi / roof[None, :]                  # roof-normalised
-    Mn_roof = np.einsum("in,i,in->n", shape, m, shape)
-    gamma_roof = (shape.T @ (m * iota)) / Mn_roof
+    largest = np.abs(phi).max(axis=0)
+    roof_ok = np.abs(roof) > ROOF_TOLERANCE * largest
+    # roof-normalised shapes; a mode with a (numerically) motionless roof has none
+    with np.errstate(divide="ignore", invalid="ignore"):
+        shape = np.where(roof_ok[None, :], phi / roof[None, :], np.nan)
+    # Gamma of the shape phi / roof is L_n * roof (phi mass-normalised)
+    gamma_roof = L * roof
     with np.errstate(divide="ignore", invalid="ignore"):
         zeta = np.einsum("in,ij,jn->n", phi, C, phi) / (2.0 * omega)
         period = 2.0 * np.pi / omega
@@ -110,7 +123,8 @@ def modes_dataset(frame):
             "frequency": ("mode", omega / (2 * np.pi), {"units": "Hz"}),
             "angular_frequency": ("mode", omega, {"units": "rad/s"}),
             "shape": (("mode", "floor"), shape.T,
-                      {"units": "1", "long_name": "mode shape, roof component = 1"}),
+                      {"units": "1", "long_name": "mode shape, roof component = 1 "
+                                               "(NaN for a mode whose roof does not move)"}),
             "mass_normalised_shape": (("mode", "floor"), phi.T,
                                       {"units": "kg-1/2", "long_name": "mode shape with phi^T M phi = 1"}),
             "participation_factor": ("mode", gamma_roof,
