@@ -60,6 +60,10 @@ def write_dataset(ds: xr.Dataset, path) -> Path:
     os.close(fd)
     try:
         writer(ds, Path(tmp))
+        # mkstemp creates the file private (0600); give it the usual permissions
+        umask = os.umask(0)
+        os.umask(umask)
+        os.chmod(tmp, 0o666 & ~umask)
         os.replace(tmp, path)
     except BaseException:
         if os.path.exists(tmp):
