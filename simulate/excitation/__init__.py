@@ -12,3 +12,5 @@ __all__ = [
     "harmonic_ground_motion",
     "harmonic_floor_force",
 ]
+from simulate.excitation.recordsets import RECORD_SETS, record_set, record_set_metadata  # noqa: E402
+__all__ += ["RECORD_SETS", "record_set", "record_set_metadata"]
