@@ -14,7 +14,7 @@ Eq. 11.4.21).
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 
 import numpy as np
 
@@ -50,6 +50,27 @@ class Damping:
     def describe(self) -> str:
         raise NotImplementedError
 
+    #: which stiffness a stiffness-proportional part uses in a yielding frame
+    stiffness: str = "initial"
+
+    def proportional_coefficients(self, omega: np.ndarray) -> tuple[float, float]:
+        """(a0, a1) of C = a0 M + a1 K, for models that have that form."""
+        raise InputError(f"{self.kind} damping has no mass/stiffness-proportional form")
+
+
+def _check_stiffness(value: str) -> None:
+    if value not in DAMPING_STIFFNESS:
+        raise InputError(f"damping stiffness must be one of {', '.join(DAMPING_STIFFNESS)}, got {value!r}")
+
+
+#: Stiffness used by stiffness-proportional damping in a yielding frame:
+#: "initial" keeps C constant (a1 K_0); "tangent" uses a1 K_t of the last converged
+#: state, which avoids the spurious damping forces of a1 K_0 once storeys yield
+#: (J. F. Hall (2006), "Problems encountered from the use (or misuse) of Rayleigh
+#: damping", Earthquake Eng. Struct. Dyn. 35; F. A. Charney (2008), J. Struct. Eng.
+#: 134(4), 581-592 - from memory).
+DAMPING_STIFFNESS = ("initial", "tangent")
+
 
 @dataclass(frozen=True)
 class Rayleigh(Damping):
@@ -60,9 +81,11 @@ class Rayleigh(Damping):
 
     ratio: float | tuple[float, float] = 0.05
     modes: tuple[int, int] = (1, 3)
+    stiffness: str = "initial"
     kind = "rayleigh"
 
     def __post_init__(self):
+        _check_stiffness(self.stiffness)
         r = np.broadcast_to(np.asarray(self.ratio, dtype=float), (2,))
         for v in r:
             _check_ratio(v, "ratio")
@@ -99,9 +122,13 @@ class Rayleigh(Damping):
         a0, a1 = self.coefficients(omega)
         return a0 * M + a1 * K
 
+    def proportional_coefficients(self, omega):
+        return self.coefficients(omega)
+
     def describe(self) -> str:
         zi, zj = self.ratios()
-        return f"Rayleigh, ratio {zi:g} in mode {self.modes[0]} and {zj:g} in mode {self.modes[1]}"
+        text = f"Rayleigh, ratio {zi:g} in mode {self.modes[0]} and {zj:g} in mode {self.modes[1]}"
+        return text + (", tangent stiffness" if self.stiffness == "tangent" else "")
 
 
 @dataclass(frozen=True)
@@ -121,6 +148,9 @@ class MassProportional(Damping):
         w = omega[_mode_index(self.mode, len(omega))]
         return 2.0 * self.ratio * w * M
 
+    def proportional_coefficients(self, omega):
+        return 2.0 * self.ratio * omega[_mode_index(self.mode, len(omega))], 0.0
+
     def describe(self) -> str:
         return f"mass-proportional, ratio {self.ratio:g} in mode {self.mode}"
 
@@ -131,9 +161,11 @@ class StiffnessProportional(Damping):
 
     ratio: float = 0.05
     mode: int = 1
+    stiffness: str = "initial"
     kind = "stiffness"
 
     def __post_init__(self):
+        _check_stiffness(self.stiffness)
         _check_ratio(self.ratio, "ratio")
         if int(self.mode) < 1:
             raise InputError(f"damping mode must be >= 1, got {self.mode!r}")
@@ -142,8 +174,12 @@ class StiffnessProportional(Damping):
         w = omega[_mode_index(self.mode, len(omega))]
         return (2.0 * self.ratio / w) * K
 
+    def proportional_coefficients(self, omega):
+        return 0.0, 2.0 * self.ratio / omega[_mode_index(self.mode, len(omega))]
+
     def describe(self) -> str:
-        return f"stiffness-proportional, ratio {self.ratio:g} in mode {self.mode}"
+        text = f"stiffness-proportional, ratio {self.ratio:g} in mode {self.mode}"
+        return text + (", tangent stiffness" if self.stiffness == "tangent" else "")
 
 
 @dataclass(frozen=True)
@@ -192,6 +228,9 @@ class NoDamping(Damping):
 
     def matrix(self, M, K, omega, phi):
         return np.zeros_like(K)
+
+    def proportional_coefficients(self, omega):
+        return 0.0, 0.0
 
     def describe(self) -> str:
         return "none"

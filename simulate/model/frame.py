@@ -6,7 +6,7 @@ Floors and storeys are numbered from the ground up. Floor 0 is the ground; floor
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from functools import cached_property
 
 import numpy as np
@@ -63,6 +63,13 @@ class ShearFrame:
         Damping model; default 5 % Rayleigh in modes 1 and 3.
     name : str
         Label for reports.
+    law : None, str or sequence of str
+        Storey law per storey or for all (see ``simulate.laws.LAWS``: "linear",
+        "bilinear", "bouc-wen", "peak-oriented"). None: bilinear with kinematic
+        hardening where ``yield_shear`` is given, linear otherwise.
+    law_params : dict, optional
+        Law-specific parameters, each a number or one value per storey (for
+        Bouc-Wen: A, beta, gamma, n).
 
     The length of the first array-like argument sets N; scalars are broadcast.
     """
@@ -75,6 +82,8 @@ class ShearFrame:
     gravity_load: np.ndarray | None = None
     damping: Damping = field(default_factory=lambda: Rayleigh(ratio=0.05, modes=(1, 3)))
     name: str = "frame"
+    law: str | tuple | None = None
+    law_params: dict | None = None
 
     def __post_init__(self):
         lengths = {name: len(value) for name, value in
@@ -102,8 +111,42 @@ class ShearFrame:
                                _storey_array("gravity_load", self.gravity_load, n, allow_zero=True))
         if not isinstance(self.damping, Damping):
             raise InputError(f"damping must be a damping model such as Rayleigh(...), got {self.damping!r}")
+        self._check_laws(n)
         for arr in (self.mass, self.stiffness, self.height):
             arr.setflags(write=False)
+
+    def _check_laws(self, n: int) -> None:
+        from simulate.laws import LAWS
+
+        law = self.law
+        if law is None:
+            names = ["bilinear" if self.yield_shear is not None else "linear"] * n
+        elif isinstance(law, str):
+            names = [law] * n
+        else:
+            names = list(law)
+            if len(names) != n:
+                raise InputError(f"law has {len(names)} values but the frame has {n} storeys")
+        for i, name in enumerate(names):
+            if name not in LAWS:
+                raise InputError(f"storey {i + 1}: unknown law {name!r}; choose one of {', '.join(LAWS)}")
+        object.__setattr__(self, "law", tuple(names))
+        params = dict(self.law_params or {})
+        known = {key for name in set(names) for key in LAWS[name].extra}
+        for key in params:
+            if key not in known:
+                hint = f"; the laws used take {', '.join(sorted(known))}" if known else \
+                    "; the laws used take no extra parameters"
+                raise InputError(f"unknown storey-law parameter {key!r}{hint}")
+        arrays = {key: _storey_array(key, value, n, positive=False) for key, value in params.items()}
+        object.__setattr__(self, "law_params", arrays)
+        vy = self.yield_shear
+        for i, name in enumerate(names):
+            cls = LAWS[name]
+            if cls.needs_yield and vy is None:
+                raise InputError(f"storey {i + 1}: the {name} law needs yield_shear")
+            cls.check(i + 1, float(self.stiffness[i]), float(vy[i]) if vy is not None else float("nan"),
+                      float(self.hardening[i]), {key: float(arr[i]) for key, arr in arrays.items()})
 
     # ------------------------------------------------------------------ sizes
     @property
@@ -120,8 +163,38 @@ class ShearFrame:
 
     @property
     def is_linear(self) -> bool:
-        """True when no storey can yield and no gravity load is applied."""
-        return self.yield_shear is None and self.gravity_load is None
+        """True when every storey is linear elastic and no gravity load acts (no P-Delta)."""
+        return all(name == "linear" for name in self.law) and self.gravity_load is None
+
+    def yield_drift(self) -> np.ndarray:
+        """Yield deformation Vy / k of each storey, m (NaN for linear storeys)."""
+        if self.yield_shear is None:
+            return np.full(self.n_storeys, np.nan)
+        dy = self.yield_shear / self.stiffness
+        return np.where([name == "linear" for name in self.law], np.nan, dy)
+
+    def geometric_stiffness(self) -> np.ndarray:
+        """Linearised P-Delta stiffness P_i / h_i of each storey, N/m (subtracted from k)."""
+        if self.gravity_load is None:
+            return np.zeros(self.n_storeys)
+        return self.gravity_load / self.height
+
+    def law_arrays(self):
+        """Law ids (N,) int64, parameter rows (N, N_PARAMS) and initial states (N, N_STATE)."""
+        from simulate.laws import LAWS, N_PARAMS, N_STATE
+
+        n = self.n_storeys
+        ids = np.empty(n, dtype=np.int64)
+        P = np.zeros((n, N_PARAMS))
+        S = np.zeros((n, N_STATE))
+        vy = self.yield_shear if self.yield_shear is not None else np.full(n, np.nan)
+        for i, name in enumerate(self.law):
+            cls = LAWS[name]
+            ids[i] = cls.law_id
+            P[i] = cls.row(float(self.stiffness[i]), float(vy[i]), float(self.hardening[i]),
+                           {key: float(arr[i]) for key, arr in self.law_params.items()})
+            S[i] = cls.initial_state(P[i])
+        return ids, P, S
 
     # --------------------------------------------------------------- matrices
     def mass_matrix(self) -> np.ndarray:
@@ -172,9 +245,12 @@ class ShearFrame:
 
     def with_stiffness(self, stiffness) -> "ShearFrame":
         """A copy of this frame with other storey stiffnesses."""
-        return ShearFrame(mass=self.mass, stiffness=stiffness, height=self.height,
-                          yield_shear=self.yield_shear, hardening=self.hardening,
-                          gravity_load=self.gravity_load, damping=self.damping, name=self.name)
+        return replace(self, stiffness=stiffness, law_params=dict(self.law_params))
+
+    def linear_twin(self) -> "ShearFrame":
+        """The same mass, heights, elastic stiffness and damping, with linear storeys and no P-Delta."""
+        return ShearFrame(mass=self.mass, stiffness=self.stiffness, height=self.height,
+                          damping=self.damping, name=f"{self.name} (linear twin)")
 
     def __repr__(self) -> str:
         return (f"ShearFrame(name={self.name!r}, storeys={self.n_storeys}, "

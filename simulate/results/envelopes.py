@@ -53,4 +53,9 @@ def envelopes(ds: xr.Dataset) -> xr.Dataset:
         "peak_roof_displacement": peak_disp[:, -1],
     }
     coords = {c: ds.coords[c] for c in ("record", "floor", "storey") if c in ds.coords}
-    return xr.Dataset({name: variable(name, data[name]) for name in ENVELOPES}, coords=coords)
+    out = xr.Dataset({name: variable(name, data[name]) for name in ENVELOPES}, coords=coords)
+    if "storey_yield_shear" in ds and "storey_stiffness" in ds:
+        dy = (ds["storey_yield_shear"] / ds["storey_stiffness"]).values
+        peak_d = data["peak_drift_ratio"] * ds["storey_height"].values[None, :]
+        out["ductility"] = variable("ductility", peak_d / dy[None, :])
+    return out

@@ -37,6 +37,24 @@ VARIABLES = {
     "floor_mass": (("floor",), "kg", "lumped floor mass"),
     "storey_height": (("storey",), "m", "storey height"),
     "storey_stiffness": (("storey",), "N/m", "elastic storey stiffness"),
+    "energy_input": (("record", "time"), "J", "relative input energy"),
+    "energy_kinetic": (("record", "time"), "J", "kinetic energy of the relative motion"),
+    "energy_damping": (("record", "time"), "J", "energy dissipated by viscous damping"),
+    "energy_strain": (("record", "time"), "J", "recoverable strain energy (storey springs and P-Delta)"),
+    "energy_hysteretic": (("record", "time"), "J", "energy dissipated by storey hysteresis"),
+    "energy_balance_error": (("record",), "1",
+                             "max over time of |E_input - (E_kinetic + E_damping + E_strain + E_hysteretic)| "
+                             "/ max over time of |E_input|"),
+    "hysteretic_energy": (("record", "storey"), "J", "energy dissipated by hysteresis in the storey"),
+    "cumulative_plastic_drift_ratio": (("record", "storey"), "1",
+                                       "sum of absolute plastic storey deformation increments / h_i"),
+    "ductility": (("record", "storey"), "1", "peak storey deformation / yield deformation Vy / k"),
+    "newton_iterations": (("record",), "1", "Newton iterations over the record"),
+    "substepped_steps": (("record",), "1", "steps that had to be split to converge"),
+    "storey_law": (("storey",), "", "storey force-deformation law"),
+    "storey_yield_shear": (("storey",), "N", "storey yield shear"),
+    "storey_hardening": (("storey",), "1", "post-yield stiffness ratio"),
+    "storey_gravity_load": (("storey",), "N", "axial gravity load carried by the storey (P-Delta)"),
     "modal_period": (("mode",), "s", "undamped natural period"),
     "modal_damping_ratio": (("mode",), "1", "damping ratio of the mode"),
 }
@@ -44,6 +62,10 @@ VARIABLES = {
 HISTORIES = ("displacement", "velocity", "absolute_acceleration", "drift_ratio", "storey_shear")
 ENVELOPES = ("peak_drift_ratio", "residual_drift_ratio", "peak_floor_acceleration",
              "peak_storey_shear", "peak_base_shear", "peak_roof_displacement")
+ENERGIES = ("energy_input", "energy_kinetic", "energy_damping", "energy_strain", "energy_hysteretic")
+
+#: Status labels by kernel status code.
+STATUS = {0: "ok", 1: "not-converged", 2: "collapsed"}
 
 
 def variable(name: str, data) -> xr.Variable:

@@ -1,0 +1,396 @@
+"""Newmark-beta with Newton-Raphson iterations for frames with hysteretic storeys and P-Delta.
+
+Each step solves the residual
+
+    R(u) = p_{i+1} - M a(u) - f_D(v(u)) - f_S(u) = 0,
+
+with a(u), v(u) from the Newmark relations, by Newton's method on the
+tridiagonal effective tangent c1 M + g1 C + K_t (O(N) per iteration with
+Rayleigh, mass- or stiffness-proportional damping; a full C from modal damping
+makes it a dense solve). K_t includes the geometric stiffness -P_i / h_i of
+each storey (linearised P-Delta). A step converges when both the largest
+displacement correction and the largest unbalanced floor force fall below their
+tolerances (``tol_u``, m, and ``tol_r``, N). A step that does not converge in
+``max_iter`` iterations is split into 2, 4, ... 2^max_depth equal substeps (load
+interpolated linearly) from the last converged state; if that fails too the
+record stops with status NOT_CONVERGED. A storey drift ratio beyond
+``collapse_drift`` stops the record with status COLLAPSED.
+
+Energies (relative formulation; C.-M. Uang and V. V. Bertero (1990), "Evaluation
+of seismic energy in structures", Earthquake Eng. Struct. Dyn. 19, 77-90) are
+accumulated with the trapezoidal rule over each step's displacement increment:
+input -sum m a_g du (+ floor forces), kinetic 1/2 v^T M v, damping work, the
+recoverable strain energy V^2 / (2 k) of each storey spring plus the
+geometric term -P d^2 / (2 h), and the hysteretic energy (spring work minus
+recoverable strain energy).
+
+References
+----------
+N. M. Newmark (1959); A. K. Chopra, *Dynamics of Structures*, 4th ed., section
+5.7 and Table 5.7.2 (Newmark's method for nonlinear systems, Newton-Raphson
+iteration).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+from numba import njit, prange
+
+from simulate.kernels.newmark import _fill_nan
+from simulate.laws.dispatch import storey_shear
+from simulate.settings import JIT, JIT_PARALLEL
+
+#: Status codes written by the kernels.
+OK = 0
+NOT_CONVERGED = 1
+COLLAPSED = 2
+
+#: Columns of the energy history.
+ENERGY_COLUMNS = ("input", "kinetic", "damping", "strain", "hysteretic")
+
+
+@njit(**JIT)
+def _damping_force(v, cd, co, C, dense, out):
+    """out = C v for a tridiagonal (cd, co) or dense C."""
+    n = v.shape[0]
+    if dense:
+        for j in range(n):
+            s = 0.0
+            for l in range(n):
+                s += C[j, l] * v[l]
+            out[j] = s
+    else:
+        for j in range(n):
+            s = cd[j] * v[j]
+            if j > 0:
+                s += co[j - 1] * v[j - 1]
+            if j < n - 1:
+                s += co[j] * v[j + 1]
+            out[j] = s
+
+
+@njit(**JIT)
+def _tangent_damping(m, kt, a0, a1, cd, co):
+    """C = a0 M + a1 K_t(current) for the tangent-stiffness damping option."""
+    n = m.shape[0]
+    for j in range(n):
+        d = a0 * m[j] + a1 * kt[j]
+        if j < n - 1:
+            d += a1 * kt[j + 1]
+            co[j] = -a1 * kt[j + 1]
+        cd[j] = d
+
+
+@njit(**JIT)
+def _newton_step(m, h, law, P, kg, cd, co, C, dense, dt, gamma, beta, p_next,
+                 u, v, a, S, dcom, S_trial, tol_u, tol_r, max_iter,
+                 u_new, v_new, a_new, V_new, kt, fd_new, w, y, cp, J):
+    """One Newton-Newmark step from the converged (u, v, a, S, dcom); returns (converged, iterations).
+
+    On success u_new, v_new, a_new, V_new (spring shears), kt, fd_new (damping
+    forces) and S_trial hold the new state; nothing converged is modified.
+    """
+    n = m.shape[0]
+    c1 = 1.0 / (beta * dt * dt)
+    c2 = 1.0 / (beta * dt)
+    c3 = 0.5 / beta - 1.0
+    g1 = gamma / (beta * dt)
+    g2 = 1.0 - gamma / beta
+    g3 = dt * (1.0 - 0.5 * gamma / beta)
+    for j in range(n):
+        u_new[j] = u[j]
+    last_du = np.inf
+    for it in range(max_iter + 1):
+        # state determination at the trial displacements
+        below = 0.0
+        for j in range(n):
+            d = u_new[j] - below
+            below = u_new[j]
+            Vs, kts = storey_shear(law[j], d, dcom[j], P[j], S[j], S_trial[j])
+            V_new[j] = Vs
+            kt[j] = kts
+        for j in range(n):
+            du = u_new[j] - u[j]
+            a_new[j] = c1 * du - c2 * v[j] - c3 * a[j]
+            v_new[j] = g1 * du + g2 * v[j] + g3 * a[j]
+        _damping_force(v_new, cd, co, C, dense, fd_new)
+        # residual R = p - M a - f_D - f_S, f_S from storey shears incl. P-Delta
+        rmax = 0.0
+        below = 0.0
+        for j in range(n):
+            d = u_new[j] - below
+            below = u_new[j]
+            w[j] = V_new[j] - kg[j] * d          # total storey shear
+        for j in range(n):
+            fs = w[j] - (w[j + 1] if j < n - 1 else 0.0)
+            r = p_next[j] - m[j] * a_new[j] - fd_new[j] - fs
+            y[j] = r
+            if abs(r) > rmax:
+                rmax = abs(r)
+        if not (rmax < np.inf):
+            return False, it
+        if it > 0 and rmax <= tol_r and last_du <= tol_u:
+            return True, it
+        if it == max_iter:
+            return False, it
+        # effective tangent: c1 M + g1 C + K_t (K_t with geometric stiffness)
+        if dense:
+            for j in range(n):
+                for l in range(n):
+                    J[j, l] = g1 * C[j, l]
+                J[j, j] += c1 * m[j] + kt[j] - kg[j]
+                if j < n - 1:
+                    kn = kt[j + 1] - kg[j + 1]
+                    J[j, j] += kn
+                    J[j, j + 1] -= kn
+                    J[j + 1, j] -= kn
+            dx = np.linalg.solve(J, y)
+            last_du = 0.0
+            for j in range(n):
+                u_new[j] += dx[j]
+                if abs(dx[j]) > last_du:
+                    last_du = abs(dx[j])
+        else:
+            # Thomas algorithm on the symmetric tridiagonal tangent
+            off_prev = 0.0
+            for j in range(n):
+                diag = c1 * m[j] + g1 * cd[j] + kt[j] - kg[j]
+                off = 0.0
+                if j < n - 1:
+                    kn = kt[j + 1] - kg[j + 1]
+                    diag += kn
+                    off = g1 * co[j] - kn
+                if j > 0:
+                    diag -= off_prev * cp[j - 1]
+                    y[j] -= off_prev * y[j - 1]
+                inv = 1.0 / diag
+                cp[j] = off * inv
+                y[j] *= inv
+                off_prev = off
+            last_du = 0.0
+            x = 0.0
+            for j in range(n - 1, -1, -1):
+                x = y[j] - cp[j] * x if j < n - 1 else y[j]
+                u_new[j] += x
+                if abs(x) > last_du:
+                    last_du = abs(x)
+    return False, max_iter
+
+
+@njit(**JIT)
+def _load(m, ag, force, has_force, i, out):
+    """Floor load vector p = -M 1 a_g + f at step i."""
+    for j in range(m.shape[0]):
+        out[j] = -m[j] * ag[i] + (force[i, j] if has_force else 0.0)
+
+
+@njit(**JIT)
+def _newmark_nonlinear(m, h, law, P, S_init, kg, cd_in, co_in, C, dense, tangent_damping, a0, a1,
+                       ag, force, has_force, nsteps, dt, gamma, beta,
+                       tol_u, tol_r, max_iter, max_depth, collapse_drift,
+                       u_out, v_out, acc_out, drift_out, shear_out, energy_out, storey_out, info):
+    """Nonlinear Newmark-beta over one record.
+
+    m, h, kg (N,): floor masses, storey heights, geometric stiffnesses P_i / h_i.
+    law (N,) int64 law ids; P (N, N_PARAMS) parameter rows; S_init (N, N_STATE).
+    cd_in, co_in: tridiagonal C (initial stiffness); C (N, N) dense C when ``dense``.
+    tangent_damping: C = a0 M + a1 K_t with K_t of the last converged state.
+    Outputs (T, N) histories, energy_out (T, 5) (see ENERGY_COLUMNS), storey_out
+    (N, 2) hysteretic energy and cumulative plastic deformation per storey,
+    info (4,) int64: status, valid steps, Newton iterations, substepped steps.
+    """
+    n = m.shape[0]
+    ns = S_init.shape[1]
+    k0 = P[:, 0]
+    cd = cd_in.copy()
+    co = co_in.copy()
+    # converged state
+    u = np.zeros(n)
+    v = np.zeros(n)
+    a = np.zeros(n)
+    S = S_init.copy()
+    dcom = np.zeros(n)
+    Vc = np.zeros(n)
+    fdc = np.zeros(n)
+    ktc = k0.copy()
+    W = np.zeros(n)
+    plastic = np.zeros(n)
+    # trial state and work arrays
+    u_new = np.empty(n)
+    v_new = np.empty(n)
+    a_new = np.empty(n)
+    V_new = np.empty(n)
+    kt = np.empty(n)
+    fd_new = np.empty(n)
+    S_trial = np.empty_like(S)
+    w = np.empty(n)
+    y = np.empty(n)
+    cp = np.empty(n)
+    J = np.empty((n, n)) if dense else np.empty((1, 1))
+    p_prev = np.empty(n)
+    p_next = np.empty(n)
+    p0 = np.empty(n)
+    p1 = np.empty(n)
+    # backup of the state at the start of a step (for substepping)
+    bu = np.empty(n)
+    bv = np.empty(n)
+    ba = np.empty(n)
+    bS = np.empty_like(S)
+    bd = np.empty(n)
+    bV = np.empty(n)
+    bfd = np.empty(n)
+    bkt = np.empty(n)
+    bW = np.empty(n)
+    bpl = np.empty(n)
+    e_in = 0.0
+    e_d = 0.0
+    be_in = 0.0
+    be_d = 0.0
+
+    _load(m, ag, force, has_force, 0, p0)
+    for j in range(n):
+        a[j] = p0[j] / m[j]
+    status = 0
+    n_valid = nsteps
+    iterations = 0
+    substepped = 0
+    for i in range(nsteps):
+        if i > 0:
+            _load(m, ag, force, has_force, i - 1, p0)
+            _load(m, ag, force, has_force, i, p1)
+            nsub = 1
+            depth = 0
+            while True:
+                ok = True
+                for ksub in range(nsub):
+                    th0 = ksub / nsub
+                    th1 = (ksub + 1) / nsub
+                    for j in range(n):
+                        p_prev[j] = p0[j] + th0 * (p1[j] - p0[j])
+                        p_next[j] = p0[j] + th1 * (p1[j] - p0[j])
+                    if tangent_damping:
+                        _tangent_damping(m, ktc, a0, a1, cd, co)
+                    conv, its = _newton_step(m, h, law, P, kg, cd, co, C, dense, dt / nsub, gamma, beta,
+                                             p_next, u, v, a, S, dcom, S_trial, tol_u, tol_r, max_iter,
+                                             u_new, v_new, a_new, V_new, kt, fd_new, w, y, cp, J)
+                    iterations += its
+                    if not conv:
+                        ok = False
+                        break
+                    # commit the substep and accumulate energies (trapezoidal rule)
+                    below = 0.0
+                    for j in range(n):
+                        du = u_new[j] - u[j]
+                        e_in += 0.5 * (p_prev[j] + p_next[j]) * du
+                        e_d += 0.5 * (fdc[j] + fd_new[j]) * du
+                        d = u_new[j] - below
+                        below = u_new[j]
+                        dd = d - dcom[j]
+                        W[j] += 0.5 * (Vc[j] + V_new[j]) * dd
+                        plastic[j] += abs(dd - (V_new[j] - Vc[j]) / k0[j])
+                        dcom[j] = d
+                        Vc[j] = V_new[j]
+                        fdc[j] = fd_new[j]
+                        ktc[j] = kt[j]
+                        u[j] = u_new[j]
+                        v[j] = v_new[j]
+                        a[j] = a_new[j]
+                        for q in range(ns):
+                            S[j, q] = S_trial[j, q]
+                if ok:
+                    break
+                if depth == max_depth:
+                    status = 1
+                    break
+                if nsub == 1:
+                    substepped += 1
+                    for j in range(n):
+                        bu[j] = u[j]
+                        bv[j] = v[j]
+                        ba[j] = a[j]
+                        bd[j] = dcom[j]
+                        bV[j] = Vc[j]
+                        bfd[j] = fdc[j]
+                        bkt[j] = ktc[j]
+                        bW[j] = W[j]
+                        bpl[j] = plastic[j]
+                        for q in range(ns):
+                            bS[j, q] = S[j, q]
+                    be_in = e_in
+                    be_d = e_d
+                else:
+                    for j in range(n):
+                        u[j] = bu[j]
+                        v[j] = bv[j]
+                        a[j] = ba[j]
+                        dcom[j] = bd[j]
+                        Vc[j] = bV[j]
+                        fdc[j] = bfd[j]
+                        ktc[j] = bkt[j]
+                        W[j] = bW[j]
+                        plastic[j] = bpl[j]
+                        for q in range(ns):
+                            S[j, q] = bS[j, q]
+                    e_in = be_in
+                    e_d = be_d
+                nsub *= 2
+                depth += 1
+            if status != 0:
+                n_valid = i
+                break
+        # store the converged state of step i
+        agi = ag[i]
+        e_k = 0.0
+        e_s = 0.0
+        e_h = 0.0
+        collapsed = False
+        below = 0.0
+        for j in range(n):
+            u_out[i, j] = u[j]
+            v_out[i, j] = v[j]
+            acc_out[i, j] = a[j] + agi
+            d = u[j] - below
+            below = u[j]
+            dr = d / h[j]
+            drift_out[i, j] = dr
+            shear_out[i, j] = Vc[j]
+            if abs(dr) > collapse_drift:
+                collapsed = True
+            e_k += 0.5 * m[j] * v[j] * v[j]
+            rec = 0.5 * Vc[j] * Vc[j] / k0[j]
+            e_s += rec - 0.5 * kg[j] * d * d
+            e_h += W[j] - rec
+        energy_out[i, 0] = e_in
+        energy_out[i, 1] = e_k
+        energy_out[i, 2] = e_d
+        energy_out[i, 3] = e_s
+        energy_out[i, 4] = e_h
+        if collapsed:
+            status = 2
+            n_valid = i + 1
+            break
+    for j in range(n):
+        storey_out[j, 0] = W[j] - 0.5 * Vc[j] * Vc[j] / k0[j]
+        storey_out[j, 1] = plastic[j]
+    _fill_nan(n_valid, u_out, v_out, acc_out, drift_out, shear_out)
+    for row in range(n_valid, energy_out.shape[0]):
+        for c in range(energy_out.shape[1]):
+            energy_out[row, c] = np.nan
+    info[0] = status
+    info[1] = n_valid
+    info[2] = iterations
+    info[3] = substepped
+
+
+@njit(**JIT_PARALLEL)
+def _newmark_nonlinear_batch(m, h, law, P, S_init, kg, cd, co, C, dense, tangent_damping, a0, a1,
+                             ag, force, has_force, nsteps, dt, gamma, beta,
+                             tol_u, tol_r, max_iter, max_depth, collapse_drift,
+                             u_out, v_out, acc_out, drift_out, shear_out, energy_out, storey_out, info):
+    """``_newmark_nonlinear`` over records in parallel (leading record axis on loads and outputs)."""
+    for r in prange(ag.shape[0]):
+        _newmark_nonlinear(m, h, law, P, S_init, kg, cd, co, C, dense, tangent_damping, a0, a1,
+                           ag[r], force[r], has_force, nsteps[r], dt, gamma, beta,
+                           tol_u, tol_r, max_iter, max_depth, collapse_drift,
+                           u_out[r], v_out[r], acc_out[r], drift_out[r], shear_out[r], energy_out[r],
+                           storey_out[r], info[r])
