@@ -19,6 +19,7 @@ from simulate.excitation import (
     FloorForces, Record, harmonic_floor_force, harmonic_ground_motion, read_record,
 )
 from simulate.kernels import METHODS, NEWMARK_SCHEMES
+from simulate.laws import LAWS
 from simulate.model import (
     MassProportional, ModalDamping, NoDamping, Rayleigh, ShearFrame, StiffnessProportional,
     stiffness_for_period,
@@ -32,7 +33,12 @@ __all__ = [
     "FloorForces", "Record", "harmonic_floor_force", "harmonic_ground_motion", "read_record",
     "METHODS", "NEWMARK_SCHEMES", "MassProportional", "ModalDamping", "NoDamping", "Rayleigh",
     "ShearFrame", "StiffnessProportional", "stiffness_for_period", "envelopes", "read_dataset",
-    "write_dataset", "run",
+    "write_dataset", "run", "LAWS", "linear_twin",
 ]
+
+
+def linear_twin(frame: ShearFrame) -> ShearFrame:
+    """The frame's linear twin: same mass, heights, elastic stiffness and damping; no yielding, no P-Delta."""
+    return frame.linear_twin()
 from simulate.config import Config, load_config  # noqa: E402  (after the layers it builds on)
 __all__ += ["Config", "load_config"]
