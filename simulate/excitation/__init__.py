@@ -14,3 +14,8 @@ __all__ = [
 ]
 from simulate.excitation.recordsets import RECORD_SETS, record_set, record_set_metadata  # noqa: E402
 __all__ += ["RECORD_SETS", "record_set", "record_set_metadata"]
+from simulate.excitation.readers import read_records, write_record  # noqa: E402
+from simulate.excitation.suites import expand_records, read_suite  # noqa: E402
+from simulate.excitation.processing import bandpass, baseline_correct, pad, resample, taper  # noqa: E402
+__all__ += ["read_records", "write_record", "read_suite", "expand_records",
+            "baseline_correct", "bandpass", "taper", "resample", "pad"]
