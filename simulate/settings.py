@@ -8,6 +8,10 @@ STANDARD_GRAVITY = 9.80665
 #: Options for every serial numba kernel.
 JIT = dict(cache=True, nogil=True, fastmath=False, error_model="numpy")
 
+#: Options for small functions called in a kernel's inner loop (storey laws): inlined
+#: at numba-IR level so no reference counting of array arguments happens per call.
+JIT_INLINE = dict(JIT, inline="always")
+
 #: Options for batch drivers that loop over records with ``prange``.
 JIT_PARALLEL = dict(JIT, parallel=True)
 

@@ -36,7 +36,6 @@ from __future__ import annotations
 import numpy as np
 from numba import njit, prange
 
-from simulate.kernels.newmark import _fill_nan
 from simulate.laws.dispatch import storey_shear
 from simulate.settings import JIT, JIT_PARALLEL
 
@@ -50,141 +49,6 @@ ENERGY_COLUMNS = ("input", "kinetic", "damping", "strain", "hysteretic")
 
 
 @njit(**JIT)
-def _damping_force(v, cd, co, C, dense, out):
-    """out = C v for a tridiagonal (cd, co) or dense C."""
-    n = v.shape[0]
-    if dense:
-        for j in range(n):
-            s = 0.0
-            for l in range(n):
-                s += C[j, l] * v[l]
-            out[j] = s
-    else:
-        for j in range(n):
-            s = cd[j] * v[j]
-            if j > 0:
-                s += co[j - 1] * v[j - 1]
-            if j < n - 1:
-                s += co[j] * v[j + 1]
-            out[j] = s
-
-
-@njit(**JIT)
-def _tangent_damping(m, kt, a0, a1, cd, co):
-    """C = a0 M + a1 K_t(current) for the tangent-stiffness damping option."""
-    n = m.shape[0]
-    for j in range(n):
-        d = a0 * m[j] + a1 * kt[j]
-        if j < n - 1:
-            d += a1 * kt[j + 1]
-            co[j] = -a1 * kt[j + 1]
-        cd[j] = d
-
-
-@njit(**JIT)
-def _newton_step(m, h, law, P, kg, cd, co, C, dense, dt, gamma, beta, p_next,
-                 u, v, a, S, dcom, S_trial, tol_u, tol_r, max_iter,
-                 u_new, v_new, a_new, V_new, kt, fd_new, w, y, cp, J):
-    """One Newton-Newmark step from the converged (u, v, a, S, dcom); returns (converged, iterations).
-
-    On success u_new, v_new, a_new, V_new (spring shears), kt, fd_new (damping
-    forces) and S_trial hold the new state; nothing converged is modified.
-    """
-    n = m.shape[0]
-    c1 = 1.0 / (beta * dt * dt)
-    c2 = 1.0 / (beta * dt)
-    c3 = 0.5 / beta - 1.0
-    g1 = gamma / (beta * dt)
-    g2 = 1.0 - gamma / beta
-    g3 = dt * (1.0 - 0.5 * gamma / beta)
-    for j in range(n):
-        u_new[j] = u[j]
-    last_du = np.inf
-    for it in range(max_iter + 1):
-        # state determination at the trial displacements
-        below = 0.0
-        for j in range(n):
-            d = u_new[j] - below
-            below = u_new[j]
-            Vs, kts = storey_shear(law[j], d, dcom[j], P[j], S[j], S_trial[j])
-            V_new[j] = Vs
-            kt[j] = kts
-        for j in range(n):
-            du = u_new[j] - u[j]
-            a_new[j] = c1 * du - c2 * v[j] - c3 * a[j]
-            v_new[j] = g1 * du + g2 * v[j] + g3 * a[j]
-        _damping_force(v_new, cd, co, C, dense, fd_new)
-        # residual R = p - M a - f_D - f_S, f_S from storey shears incl. P-Delta
-        rmax = 0.0
-        below = 0.0
-        for j in range(n):
-            d = u_new[j] - below
-            below = u_new[j]
-            w[j] = V_new[j] - kg[j] * d          # total storey shear
-        for j in range(n):
-            fs = w[j] - (w[j + 1] if j < n - 1 else 0.0)
-            r = p_next[j] - m[j] * a_new[j] - fd_new[j] - fs
-            y[j] = r
-            if abs(r) > rmax:
-                rmax = abs(r)
-        if not (rmax < np.inf):
-            return False, it
-        if it > 0 and rmax <= tol_r and last_du <= tol_u:
-            return True, it
-        if it == max_iter:
-            return False, it
-        # effective tangent: c1 M + g1 C + K_t (K_t with geometric stiffness)
-        if dense:
-            for j in range(n):
-                for l in range(n):
-                    J[j, l] = g1 * C[j, l]
-                J[j, j] += c1 * m[j] + kt[j] - kg[j]
-                if j < n - 1:
-                    kn = kt[j + 1] - kg[j + 1]
-                    J[j, j] += kn
-                    J[j, j + 1] -= kn
-                    J[j + 1, j] -= kn
-            dx = np.linalg.solve(J, y)
-            last_du = 0.0
-            for j in range(n):
-                u_new[j] += dx[j]
-                if abs(dx[j]) > last_du:
-                    last_du = abs(dx[j])
-        else:
-            # Thomas algorithm on the symmetric tridiagonal tangent
-            off_prev = 0.0
-            for j in range(n):
-                diag = c1 * m[j] + g1 * cd[j] + kt[j] - kg[j]
-                off = 0.0
-                if j < n - 1:
-                    kn = kt[j + 1] - kg[j + 1]
-                    diag += kn
-                    off = g1 * co[j] - kn
-                if j > 0:
-                    diag -= off_prev * cp[j - 1]
-                    y[j] -= off_prev * y[j - 1]
-                inv = 1.0 / diag
-                cp[j] = off * inv
-                y[j] *= inv
-                off_prev = off
-            last_du = 0.0
-            x = 0.0
-            for j in range(n - 1, -1, -1):
-                x = y[j] - cp[j] * x if j < n - 1 else y[j]
-                u_new[j] += x
-                if abs(x) > last_du:
-                    last_du = abs(x)
-    return False, max_iter
-
-
-@njit(**JIT)
-def _load(m, ag, force, has_force, i, out):
-    """Floor load vector p = -M 1 a_g + f at step i."""
-    for j in range(m.shape[0]):
-        out[j] = -m[j] * ag[i] + (force[i, j] if has_force else 0.0)
-
-
-@njit(**JIT)
 def _newmark_nonlinear(m, h, law, P, S_init, kg, cd_in, co_in, C, dense, tangent_damping, a0, a1,
                        ag, force, has_force, nsteps, dt, gamma, beta,
                        tol_u, tol_r, max_iter, max_depth, collapse_drift,
@@ -192,18 +56,25 @@ def _newmark_nonlinear(m, h, law, P, S_init, kg, cd_in, co_in, C, dense, tangent
     """Nonlinear Newmark-beta over one record.
 
     m, h, kg (N,): floor masses, storey heights, geometric stiffnesses P_i / h_i.
-    law (N,) int64 law ids; P (N, N_PARAMS) parameter rows; S_init (N, N_STATE).
+    law (N,) int64 law ids; P (N, 7) parameter rows; S_init (N, 5) initial states.
     cd_in, co_in: tridiagonal C (initial stiffness); C (N, N) dense C when ``dense``.
     tangent_damping: C = a0 M + a1 K_t with K_t of the last converged state.
-    Outputs (T, N) histories, energy_out (T, 5) (see ENERGY_COLUMNS), storey_out
-    (N, 2) hysteretic energy and cumulative plastic deformation per storey,
-    info (4,) int64: status, valid steps, Newton iterations, substepped steps.
+    ag (T,), force (T|1, N) as in the linear kernels. Outputs: (T, N) histories,
+    energy_out (T, 5) (see ENERGY_COLUMNS), storey_out (N, 2) hysteretic energy and
+    cumulative plastic deformation per storey, info (4,) int64: status, valid
+    steps, Newton iterations, substepped steps.
+
+    Everything per step lives in this one function and the laws are called with
+    scalars only: array arguments to inner calls cost reference counting
+    (atomic operations) that dominated the run time.
     """
     n = m.shape[0]
     ns = S_init.shape[1]
-    k0 = P[:, 0]
     cd = cd_in.copy()
     co = co_in.copy()
+    k0 = np.empty(n)
+    for j in range(n):
+        k0[j] = P[j, 0]
     # converged state
     u = np.zeros(n)
     v = np.zeros(n)
@@ -222,7 +93,7 @@ def _newmark_nonlinear(m, h, law, P, S_init, kg, cd_in, co_in, C, dense, tangent
     V_new = np.empty(n)
     kt = np.empty(n)
     fd_new = np.empty(n)
-    S_trial = np.empty_like(S)
+    St = np.empty_like(S)
     w = np.empty(n)
     y = np.empty(n)
     cp = np.empty(n)
@@ -231,7 +102,7 @@ def _newmark_nonlinear(m, h, law, P, S_init, kg, cd_in, co_in, C, dense, tangent
     p_next = np.empty(n)
     p0 = np.empty(n)
     p1 = np.empty(n)
-    # backup of the state at the start of a step (for substepping)
+    # the state at the start of a step, for substepping
     bu = np.empty(n)
     bv = np.empty(n)
     ba = np.empty(n)
@@ -247,37 +118,141 @@ def _newmark_nonlinear(m, h, law, P, S_init, kg, cd_in, co_in, C, dense, tangent
     be_in = 0.0
     be_d = 0.0
 
-    _load(m, ag, force, has_force, 0, p0)
     for j in range(n):
-        a[j] = p0[j] / m[j]
+        a[j] = (-m[j] * ag[0] + (force[0, j] if has_force else 0.0)) / m[j]
     status = 0
     n_valid = nsteps
     iterations = 0
     substepped = 0
     for i in range(nsteps):
         if i > 0:
-            _load(m, ag, force, has_force, i - 1, p0)
-            _load(m, ag, force, has_force, i, p1)
+            for j in range(n):
+                p0[j] = -m[j] * ag[i - 1] + (force[i - 1, j] if has_force else 0.0)
+                p1[j] = -m[j] * ag[i] + (force[i, j] if has_force else 0.0)
             nsub = 1
             depth = 0
             while True:
                 ok = True
+                h_dt = dt / nsub
+                c1 = 1.0 / (beta * h_dt * h_dt)
+                c2 = 1.0 / (beta * h_dt)
+                c3 = 0.5 / beta - 1.0
+                g1 = gamma / (beta * h_dt)
+                g2 = 1.0 - gamma / beta
+                g3 = h_dt * (1.0 - 0.5 * gamma / beta)
                 for ksub in range(nsub):
                     th0 = ksub / nsub
                     th1 = (ksub + 1) / nsub
                     for j in range(n):
                         p_prev[j] = p0[j] + th0 * (p1[j] - p0[j])
                         p_next[j] = p0[j] + th1 * (p1[j] - p0[j])
+                        u_new[j] = u[j]
                     if tangent_damping:
-                        _tangent_damping(m, ktc, a0, a1, cd, co)
-                    conv, its = _newton_step(m, h, law, P, kg, cd, co, C, dense, dt / nsub, gamma, beta,
-                                             p_next, u, v, a, S, dcom, S_trial, tol_u, tol_r, max_iter,
-                                             u_new, v_new, a_new, V_new, kt, fd_new, w, y, cp, J)
-                    iterations += its
+                        for j in range(n):
+                            cd[j] = a0 * m[j] + a1 * ktc[j]
+                            if j < n - 1:
+                                cd[j] += a1 * ktc[j + 1]
+                                co[j] = -a1 * ktc[j + 1]
+                    # ---- Newton iterations on u_new
+                    conv = False
+                    last_du = np.inf
+                    for it in range(max_iter + 1):
+                        below = 0.0
+                        for j in range(n):
+                            d = u_new[j] - below
+                            below = u_new[j]
+                            Vs, kts, t0, t1, t2, t3, t4 = storey_shear(
+                                law[j], d, dcom[j], P[j, 0], P[j, 1], P[j, 2], P[j, 3], P[j, 4], P[j, 5],
+                                P[j, 6], S[j, 0], S[j, 1], S[j, 2], S[j, 3], S[j, 4])
+                            St[j, 0] = t0
+                            St[j, 1] = t1
+                            St[j, 2] = t2
+                            St[j, 3] = t3
+                            St[j, 4] = t4
+                            V_new[j] = Vs
+                            kt[j] = kts
+                            w[j] = Vs - kg[j] * d          # total storey shear with P-Delta
+                            du = u_new[j] - u[j]
+                            a_new[j] = c1 * du - c2 * v[j] - c3 * a[j]
+                            v_new[j] = g1 * du + g2 * v[j] + g3 * a[j]
+                        # damping forces C v_new
+                        if dense:
+                            for j in range(n):
+                                sacc = 0.0
+                                for l in range(n):
+                                    sacc += C[j, l] * v_new[l]
+                                fd_new[j] = sacc
+                        else:
+                            for j in range(n):
+                                sacc = cd[j] * v_new[j]
+                                if j > 0:
+                                    sacc += co[j - 1] * v_new[j - 1]
+                                if j < n - 1:
+                                    sacc += co[j] * v_new[j + 1]
+                                fd_new[j] = sacc
+                        # residual R = p - M a - f_D - f_S
+                        rmax = 0.0
+                        for j in range(n):
+                            fs = w[j] - (w[j + 1] if j < n - 1 else 0.0)
+                            r = p_next[j] - m[j] * a_new[j] - fd_new[j] - fs
+                            y[j] = r
+                            if abs(r) > rmax:
+                                rmax = abs(r)
+                        if not (rmax < np.inf):
+                            iterations += it
+                            break
+                        if it > 0 and rmax <= tol_r and last_du <= tol_u:
+                            conv = True
+                            iterations += it
+                            break
+                        if it == max_iter:
+                            iterations += it
+                            break
+                        # effective tangent c1 M + g1 C + K_t (K_t with geometric stiffness)
+                        if dense:
+                            for j in range(n):
+                                for l in range(n):
+                                    J[j, l] = g1 * C[j, l]
+                                J[j, j] += c1 * m[j] + kt[j] - kg[j]
+                                if j < n - 1:
+                                    kn = kt[j + 1] - kg[j + 1]
+                                    J[j, j] += kn
+                                    J[j, j + 1] -= kn
+                                    J[j + 1, j] -= kn
+                            dx = np.linalg.solve(J, y)
+                            last_du = 0.0
+                            for j in range(n):
+                                u_new[j] += dx[j]
+                                if abs(dx[j]) > last_du:
+                                    last_du = abs(dx[j])
+                        else:
+                            # Thomas algorithm on the symmetric tridiagonal tangent
+                            off_prev = 0.0
+                            for j in range(n):
+                                diag = c1 * m[j] + g1 * cd[j] + kt[j] - kg[j]
+                                off = 0.0
+                                if j < n - 1:
+                                    kn = kt[j + 1] - kg[j + 1]
+                                    diag += kn
+                                    off = g1 * co[j] - kn
+                                if j > 0:
+                                    diag -= off_prev * cp[j - 1]
+                                    y[j] -= off_prev * y[j - 1]
+                                inv = 1.0 / diag
+                                cp[j] = off * inv
+                                y[j] *= inv
+                                off_prev = off
+                            last_du = 0.0
+                            x = 0.0
+                            for j in range(n - 1, -1, -1):
+                                x = y[j] - cp[j] * x if j < n - 1 else y[j]
+                                u_new[j] += x
+                                if abs(x) > last_du:
+                                    last_du = abs(x)
                     if not conv:
                         ok = False
                         break
-                    # commit the substep and accumulate energies (trapezoidal rule)
+                    # commit the substep; energies by the trapezoidal rule over du
                     below = 0.0
                     for j in range(n):
                         du = u_new[j] - u[j]
@@ -296,7 +271,7 @@ def _newmark_nonlinear(m, h, law, P, S_init, kg, cd_in, co_in, C, dense, tangent
                         v[j] = v_new[j]
                         a[j] = a_new[j]
                         for q in range(ns):
-                            S[j, q] = S_trial[j, q]
+                            S[j, q] = St[j, q]
                 if ok:
                     break
                 if depth == max_depth:
@@ -372,8 +347,13 @@ def _newmark_nonlinear(m, h, law, P, S_init, kg, cd_in, co_in, C, dense, tangent
     for j in range(n):
         storey_out[j, 0] = W[j] - 0.5 * Vc[j] * Vc[j] / k0[j]
         storey_out[j, 1] = plastic[j]
-    _fill_nan(n_valid, u_out, v_out, acc_out, drift_out, shear_out)
-    for row in range(n_valid, energy_out.shape[0]):
+    for row in range(n_valid, u_out.shape[0]):
+        for j in range(n):
+            u_out[row, j] = np.nan
+            v_out[row, j] = np.nan
+            acc_out[row, j] = np.nan
+            drift_out[row, j] = np.nan
+            shear_out[row, j] = np.nan
         for c in range(energy_out.shape[1]):
             energy_out[row, c] = np.nan
     info[0] = status

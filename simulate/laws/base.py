@@ -4,15 +4,20 @@ A storey law gives the storey (spring) shear V as a function of the storey
 deformation d = u_i - u_(i-1) and its history. Inside numba every law is one
 function of the same shape::
 
-    V, kt = _shear(d, dc, p, s, s_new)
+    V, kt, n0, n1, n2, n3, n4 = _shear(d, dc, k, vy, alpha, x0, x1, x2, x3, s0, s1, s2, s3, s4)
 
 with ``d`` the trial deformation (m), ``dc`` the deformation at the last
-converged state, ``p`` the storey's parameter row (float64, ``N_PARAMS`` wide:
-p[0] = elastic stiffness k, p[1] = yield shear Vy, p[2] = post-yield stiffness
-ratio alpha, p[3:] law-specific), ``s`` the storey's converged state row and
-``s_new`` the row the law writes its trial state into (``N_STATE`` wide). It
-returns the shear (N) and the tangent stiffness dV/dd (N/m). The caller copies
-``s_new`` into ``s`` once a step has converged, so a law never commits itself.
+converged state, ``k`` the elastic stiffness (N/m), ``vy`` the yield shear (N),
+``alpha`` the post-yield stiffness ratio, ``x0..x3`` law-specific parameters and
+``s0..s4`` the storey's converged state. It returns the shear (N), the tangent
+stiffness dV/dd (N/m) and the trial state; the caller keeps the trial state and
+makes it the converged state once the step has converged, so a law never commits
+itself. Only scalars cross the call: passing arrays would cost reference
+counting (atomic operations) on every storey of every iteration.
+
+Parameter rows (``N_PARAMS`` = 7: k, vy, alpha, x0..x3) and state rows
+(``N_STATE`` = 5) are stored per storey in (N, 7) and (N, 5) arrays by
+``ShearFrame.law_arrays``; ``dispatch.storey_shear`` picks the law by its id.
 
 On the Python side a law is a ``StoreyLaw`` subclass: its name, its numeric id
 (the kernel's dispatch key), its parameter names with defaults, validation, and
@@ -28,8 +33,8 @@ import numpy as np
 from simulate.errors import InputError
 
 #: Width of a storey's parameter row and of its state row.
-N_PARAMS = 8
-N_STATE = 8
+N_PARAMS = 7
+N_STATE = 5
 
 
 class StoreyLaw:

@@ -17,31 +17,22 @@ from __future__ import annotations
 from numba import njit
 
 from simulate.laws.base import StoreyLaw
-from simulate.settings import JIT
+from simulate.settings import JIT_INLINE
 
 
-@njit(**JIT)
-def _shear(d, dc, p, s, s_new):
-    """Bilinear kinematic-hardening storey shear and tangent."""
-    k = p[0]
-    vy = p[1]
-    alpha = p[2]
+@njit(**JIT_INLINE)
+def _shear(d, dc, k, vy, alpha, x0, x1, x2, x3, s0, s1, s2, s3, s4):
+    """Bilinear kinematic-hardening storey shear and tangent (s0 = dp, s1 = q)."""
     H = alpha * k / (1.0 - alpha)
-    dp = s[0]
-    q = s[1]
-    v_trial = k * (d - dp)
-    xi = v_trial - q
+    v_trial = k * (d - s0)
+    xi = v_trial - s1
     f = abs(xi) - vy
     if f <= 0.0:
-        s_new[0] = dp
-        s_new[1] = q
-        return v_trial, k
+        return v_trial, k, s0, s1, s2, s3, s4
     sign = 1.0 if xi > 0.0 else -1.0
     dgamma = f / (k + H)
-    dp_new = dp + dgamma * sign
-    s_new[0] = dp_new
-    s_new[1] = q + H * dgamma * sign
-    return k * (d - dp_new), k * H / (k + H)
+    dp_new = s0 + dgamma * sign
+    return k * (d - dp_new), k * H / (k + H), dp_new, s1 + H * dgamma * sign, s2, s3, s4
 
 
 class Bilinear(StoreyLaw):

@@ -22,10 +22,10 @@ from numba import njit
 
 from simulate.errors import InputError
 from simulate.laws.base import StoreyLaw
-from simulate.settings import JIT
+from simulate.settings import JIT_INLINE
 
 
-@njit(**JIT)
+@njit(**JIT_INLINE)
 def _g(z, sgn_dd, A, beta, gamma, n):
     """Bouc-Wen rate function g(z) = dz/d(d/dy) and its derivative in z."""
     az = abs(z)
@@ -35,40 +35,28 @@ def _g(z, sgn_dd, A, beta, gamma, n):
     return A - az * zn1 * c, -n * zn1 * sz * c
 
 
-@njit(**JIT)
-def _shear(d, dc, p, s, s_new):
-    """Bouc-Wen storey shear and consistent tangent."""
-    k = p[0]
-    vy = p[1]
-    alpha = p[2]
-    A = p[3]
-    beta = p[4]
-    gamma = p[5]
-    n = p[6]
+@njit(**JIT_INLINE)
+def _shear(d, dc, k, vy, alpha, A, beta, gamma, n, s0, s1, s2, s3, s4):
+    """Bouc-Wen storey shear and consistent tangent (s0 = z)."""
     dy = vy / k
-    z0 = s[0]
+    z0 = s0
     dd = d - dc
     sgn = 1.0 if dd >= 0.0 else -1.0
     h = 0.5 * dd / dy
     g0, _ = _g(z0, sgn, A, beta, gamma, n)
     if dd == 0.0:
-        s_new[0] = z0
-        return alpha * k * d + (1.0 - alpha) * vy * z0, alpha * k + (1.0 - alpha) * k * g0
+        return alpha * k * d + (1.0 - alpha) * vy * z0, alpha * k + (1.0 - alpha) * k * g0, z0, s1, s2, s3, s4
     z = z0 + 2.0 * h * g0
-    g = g0
-    dg = 0.0
     for _ in range(60):
         g, dg = _g(z, sgn, A, beta, gamma, n)
-        F = z - z0 - h * (g0 + g)
-        J = 1.0 - h * dg
-        dz = F / J
+        dz = (z - z0 - h * (g0 + g)) / (1.0 - h * dg)
         z -= dz
         if abs(dz) <= 1e-14 * (1.0 + abs(z)):
             break
     g, dg = _g(z, sgn, A, beta, gamma, n)
     dz_dd = 0.5 * (g0 + g) / dy / (1.0 - h * dg)
-    s_new[0] = z
-    return alpha * k * d + (1.0 - alpha) * vy * z, alpha * k + (1.0 - alpha) * vy * dz_dd
+    return (alpha * k * d + (1.0 - alpha) * vy * z, alpha * k + (1.0 - alpha) * vy * dz_dd,
+            z, s1, s2, s3, s4)
 
 
 class BoucWen(StoreyLaw):

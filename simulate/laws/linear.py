@@ -5,13 +5,13 @@ from __future__ import annotations
 from numba import njit
 
 from simulate.laws.base import StoreyLaw
-from simulate.settings import JIT
+from simulate.settings import JIT_INLINE
 
 
-@njit(**JIT)
-def _shear(d, dc, p, s, s_new):
-    """Linear storey shear and tangent."""
-    return p[0] * d, p[0]
+@njit(**JIT_INLINE)
+def _shear(d, dc, k, vy, alpha, x0, x1, x2, x3, s0, s1, s2, s3, s4):
+    """Linear storey shear and tangent; the state is unused."""
+    return k * d, k, s0, s1, s2, s3, s4
 
 
 class Linear(StoreyLaw):

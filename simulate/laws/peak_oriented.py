@@ -21,10 +21,10 @@ import numpy as np
 from numba import njit
 
 from simulate.laws.base import N_STATE, StoreyLaw
-from simulate.settings import JIT
+from simulate.settings import JIT_INLINE
 
 
-@njit(**JIT)
+@njit(**JIT_INLINE)
 def _skeleton(d, k, vy, alpha):
     """Bilinear skeleton shear and slope at deformation d."""
     dy = vy / k
@@ -35,52 +35,43 @@ def _skeleton(d, k, vy, alpha):
     return k * d, k
 
 
-@njit(**JIT)
-def _shear(d, dc, p, s, s_new):
-    """Peak-oriented storey shear and tangent."""
-    k = p[0]
-    vy = p[1]
-    alpha = p[2]
-    for i in range(5):
-        s_new[i] = s[i]
-    vc = s[4]
+@njit(**JIT_INLINE)
+def _shear(d, dc, k, vy, alpha, x0, x1, x2, x3, dmax, dmin, xpos, xneg, vc):
+    """Peak-oriented storey shear and tangent (state: dmax, dmin, xpos, xneg, vc)."""
     ve = vc + k * (d - dc)
     if d >= dc:
-        x0 = dc - vc / k if vc < 0.0 else s[2]
-        dmax = s[0]
-        if d >= dmax or x0 >= dmax:
+        x = dc - vc / k if vc < 0.0 else xpos
+        if d >= dmax or x >= dmax:
             bound, kb = _skeleton(d, k, vy, alpha)
         else:
             vt, _ = _skeleton(dmax, k, vy, alpha)
-            kb = vt / (dmax - x0)
-            bound = kb * (d - x0)
+            kb = vt / (dmax - x)
+            bound = kb * (d - x)
         if ve <= bound:
             v, kt = ve, k
         else:
             v, kt = bound, kb
         if vc < 0.0:
-            s_new[2] = x0
+            xpos = x
         if d > dmax:
-            s_new[0] = d
+            dmax = d
     else:
-        x0 = dc - vc / k if vc > 0.0 else s[3]
-        dmin = s[1]
-        if d <= dmin or x0 <= dmin:
+        x = dc - vc / k if vc > 0.0 else xneg
+        if d <= dmin or x <= dmin:
             bound, kb = _skeleton(d, k, vy, alpha)
         else:
             vt, _ = _skeleton(dmin, k, vy, alpha)
-            kb = vt / (dmin - x0)
-            bound = kb * (d - x0)
+            kb = vt / (dmin - x)
+            bound = kb * (d - x)
         if ve >= bound:
             v, kt = ve, k
         else:
             v, kt = bound, kb
         if vc > 0.0:
-            s_new[3] = x0
+            xneg = x
         if d < dmin:
-            s_new[1] = d
-    s_new[4] = v
-    return v, kt
+            dmin = d
+    return v, kt, dmax, dmin, xpos, xneg, v
 
 
 class PeakOriented(StoreyLaw):
