@@ -15,11 +15,33 @@ loads) and where the results go (``[output]``)::
     period = 0.9                      # target fundamental period, s
     stiffness_profile = "uniform"     # "uniform" | "linear" | list of relative values
 
+    # Yielding storeys (optional; without them the storeys are linear). At most one of:
+    yield_shear = 4.0e6               # N; number or list, storey 1 first
+    yield_drift_ratio = 0.004         # Vy_i = k_i * ratio * h_i (number or list)
+    yield_base_shear_coefficient = 0.15   # Vy_i = coefficient * g * (mass of floors i..N): storey 1
+                                      # gets coefficient * total weight, every storey the same
+                                      # coefficient times the weight it carries (a convenience of
+                                      # this program, not a code's lateral force distribution)
+    hardening = 0.03                  # post-yield stiffness ratio alpha in [0, 1); number or list
+    law = "bilinear"                  # default with a yield key; any name of simulate.laws.LAWS,
+                                      # one for all storeys or a list
+    # P-Delta (optional), at most one of:
+    gravity_load = 2.0e7              # N carried by each storey; number or list
+    floor_gravity_load = 4.0e6        # N applied at each floor; storey i carries floors i..N
+    gravity = "mass"                  # P_i = g * (mass of floors i..N), g = 9.80665 m/s2
+
+    [building.bouc_wen]               # optional parameters of the "bouc-wen" law
+    A = 1.0                           # each a number or a list, storey 1 first
+    beta = 0.5
+    gamma = 0.5
+    n = 2.0
+
     [damping]                         # optional; default Rayleigh, 5 % in modes 1 and 3
     model = "rayleigh"                # rayleigh | modal | mass | stiffness | none
     ratio = 0.05
     modes = [1, 3]                    # rayleigh only
     mode = 1                          # mass and stiffness only
+    stiffness = "initial"             # rayleigh and stiffness only: "initial" or "tangent"
 
     [analysis]                        # optional
     method = "newmark"                # or "state-space"
@@ -27,6 +49,12 @@ loads) and where the results go (``[output]``)::
     dt = 0.005                        # optional; default the smallest record step
     tail = 0.0                        # s of free vibration after each excitation
     scale = 1.0                       # factor on every ground-motion record
+    collapse_drift = 0.10             # storey drift ratio that stops a nonlinear analysis
+    tol_drift = 1e-10                 # newmark only: Newton tolerances and step splitting
+    tol_force = 1e-8
+    max_iter = 25
+    max_depth = 8
+    linear_twin = false               # also run the frame's linear twin (same excitations)
 
     [records]
     files = ["../motions/*.txt"]      # relative to the config file's folder
@@ -67,19 +95,39 @@ from simulate.errors import ConfigError, InputError
 from simulate.excitation import FloorForces, Record, harmonic_floor_force, harmonic_ground_motion, read_record
 from simulate.excitation.record import normalise_units
 from simulate.kernels import METHODS, NEWMARK_SCHEMES
+from simulate.laws import LAWS
 from simulate.model import (
     DAMPING_MODELS, MassProportional, ModalDamping, NoDamping, Rayleigh, STIFFNESS_PROFILES,
     ShearFrame, StiffnessProportional, stiffness_for_period,
 )
+from simulate.model.damping import DAMPING_STIFFNESS
 from simulate.results.netcdf import WRITERS
+from simulate.settings import STANDARD_GRAVITY
 
 __all__ = ["Config", "Analysis", "Harmonic", "load_config"]
 
 #: Top-level keys and tables of a config file.
 TOP_LEVEL_KEYS = ("title", "building", "damping", "analysis", "records", "harmonic", "output")
-BUILDING_KEYS = ("name", "storeys", "mass", "height", "stiffness", "period", "stiffness_profile")
-DAMPING_KEYS = ("model", "ratio", "modes", "mode")
-ANALYSIS_KEYS = ("method", "scheme", "gamma", "beta", "dt", "tail", "scale")
+#: Alternative ways to give the storey strengths (at most one).
+YIELD_KEYS = ("yield_shear", "yield_drift_ratio", "yield_base_shear_coefficient")
+#: Alternative ways to give the gravity loads for P-Delta (at most one).
+GRAVITY_KEYS = ("gravity_load", "floor_gravity_load", "gravity")
+#: ``gravity = "..."`` values: where the storey gravity loads come from.
+GRAVITY_SOURCES = ("mass",)
+#: ``[building.<law>]`` sub-table names of the laws with parameters of their own ("bouc-wen" -> "bouc_wen").
+LAW_TABLES = {cls.name.replace("-", "_"): cls.name for cls in LAWS.values() if cls.extra}
+BUILDING_KEYS = (("name", "storeys", "mass", "height", "stiffness", "period", "stiffness_profile")
+                 + YIELD_KEYS + ("hardening", "law") + GRAVITY_KEYS + tuple(LAW_TABLES))
+DAMPING_KEYS = ("model", "ratio", "modes", "mode", "stiffness")
+#: Newton-Newmark parameters a config may set (newmark only).
+NEWMARK_SOLVER_KEYS = ("tol_drift", "tol_force", "max_iter", "max_depth")
+ANALYSIS_KEYS = (("method", "scheme", "gamma", "beta", "dt", "tail", "scale", "collapse_drift")
+                 + NEWMARK_SOLVER_KEYS + ("linear_twin",))
+
+#: Default storey drift ratio that stops a nonlinear analysis as collapsed.
+DEFAULT_COLLAPSE_DRIFT = 0.10
+#: Largest ``max_depth``: beyond 2^20 substeps a step is better rerun with a smaller dt.
+MAX_SPLIT_DEPTH = 20
 RECORDS_KEYS = ("files", "units", "dt")
 HARMONIC_KEYS = ("kind", "name", "amplitude", "units", "frequency", "mode", "duration", "dt",
                  "ramp", "floors")
@@ -154,15 +202,32 @@ class _Table:
             raise self.error(key, f"{has} {_show(value)}, expected {kind}")
         return value
 
-    def numbers(self, key: str, item: str, *, positive=True) -> float | list[float]:
+    def numbers(self, key: str, item: str, *, positive=True, non_negative=False) -> float | list[float]:
         """A number or a non-empty flat list of numbers (``item`` names the entries)."""
         value = self.data[key]
         if isinstance(value, list):
             if not value:
                 raise self.error(key, "the list is empty; give a number or one per " + item)
-            return [self.check_number(key, v, f"{item} {i}", positive=positive)
+            return [self.check_number(key, v, f"{item} {i}", positive=positive, non_negative=non_negative)
                     for i, v in enumerate(value, start=1)]
-        return self.check_number(key, value, None, positive=positive)
+        return self.check_number(key, value, None, positive=positive, non_negative=non_negative)
+
+    def ratios(self, key: str, item: str, low: float, high: float, text: str) -> float | list[float]:
+        """Like :meth:`numbers`, each value in [low, high); ``text`` says what was expected."""
+        value = self.numbers(key, item, positive=False)
+        for i, v in enumerate(value if isinstance(value, list) else [value], start=1):
+            if not low <= v < high:
+                has = f"{item} {i} has" if isinstance(value, list) else "got"
+                raise self.error(key, f"{has} {_show(v)}, expected {text}")
+        return value
+
+    def boolean(self, key: str, default: bool = False) -> bool:
+        if key not in self.data:
+            return default
+        value = self.data[key]
+        if not isinstance(value, bool):
+            raise self.error(key, f"got {_show(value)}, expected true or false (no quotes)")
+        return value
 
     def integer(self, key: str, default=None, *, minimum: int | None = None, required=False):
         if key not in self.data:
@@ -225,13 +290,19 @@ def _table(source: str, doc: dict, key: str, allowed: tuple[str, ...], *, requir
 # ---------------------------------------------------------------------- result
 @dataclass(frozen=True)
 class Analysis:
-    """The ``[analysis]`` table: method name and parameters, time step, tail and scale."""
+    """The ``[analysis]`` table: method and parameters, time step, tail, scale, collapse limit.
+
+    ``linear_twin`` asks for a second run of the frame's linear twin on the same
+    excitations (see :func:`simulate.linear_twin`).
+    """
 
     method: str = "newmark"
     params: dict = field(default_factory=dict)
     dt: float | None = None
     tail: float = 0.0
     scale: float = 1.0
+    collapse_drift: float = DEFAULT_COLLAPSE_DRIFT
+    linear_twin: bool = False
 
 
 @dataclass(frozen=True)
@@ -272,6 +343,11 @@ class Config:
     harmonics : tuple of Harmonic
     output : Path or None
         ``[output] file``, relative to the current working folder.
+    strength_from : str or None
+        The ``[building]`` key the storey strengths came from (one of YIELD_KEYS).
+    gravity_from : str or None
+        Where the P-Delta gravity loads came from: ``"gravity_load"``,
+        ``"floor_gravity_load"`` or ``"mass"`` (``gravity = "mass"``).
     """
 
     path: Path
@@ -285,6 +361,8 @@ class Config:
     record_dt: float | None = None
     harmonics: tuple[Harmonic, ...] = ()
     output: Path | None = None
+    strength_from: str | None = None
+    gravity_from: str | None = None
 
     @property
     def n_excitations(self) -> int:
@@ -346,6 +424,7 @@ class Config:
             method=chosen,
             scale=self.scale_factors(),
             tail=self.analysis.tail,
+            collapse_drift=self.analysis.collapse_drift,
             attrs=self.attributes(),
             **params,
         )
@@ -396,6 +475,9 @@ def load_config(path) -> Config:
     title = _Table(source, "", doc, TOP_LEVEL_KEYS).string("title")
     frame = _frame(source, doc, default_name=path.stem)
     analysis = _analysis(source, doc)
+    if analysis.linear_twin and frame.is_linear:
+        raise ConfigError(f"{source}: [analysis] linear_twin: the building is already linear (no yield "
+                          f"strength, no gravity load in [building]); there is no twin to compare with")
     files, units, record_dt = _records(source, doc, path.parent)
     harmonics = _harmonics(source, doc, frame, has_records=bool(files))
     output = None
@@ -405,13 +487,19 @@ def load_config(path) -> Config:
         if output.suffix.lower() not in WRITERS:
             raise table.error("file", f"{str(output)!r} has an unknown results format; "
                                       f"use a file name ending in {', '.join(WRITERS)}")
+    building = doc["building"]
+    gravity_from = next((key for key in GRAVITY_KEYS if key in building), None)
+    if gravity_from == "gravity":
+        gravity_from = building["gravity"]
     return Config(path=path, text=text, sha256=hashlib.sha256(raw).hexdigest(), title=title,
                   frame=frame, analysis=analysis, record_files=files, record_units=units,
-                  record_dt=record_dt, harmonics=harmonics, output=output)
+                  record_dt=record_dt, harmonics=harmonics, output=output,
+                  strength_from=next((key for key in YIELD_KEYS if key in building), None),
+                  gravity_from=gravity_from)
 
 
 def _frame(source: str, doc: dict, default_name: str) -> ShearFrame:
-    """Build the ShearFrame from ``[building]`` and ``[damping]``."""
+    """Build the ShearFrame from ``[building]`` (with its law sub-tables) and ``[damping]``."""
     b = _table(source, doc, "building", BUILDING_KEYS, required=True)
     name = b.string("name", default_name)
     for key in ("mass", "height"):
@@ -425,6 +513,8 @@ def _frame(source: str, doc: dict, default_name: str) -> ShearFrame:
     if "stiffness_profile" in b and "period" not in b:
         raise b.error("stiffness_profile", "only used with period; with stiffness, give the "
                                            "storey stiffnesses directly")
+    yield_key = _one_of(b, YIELD_KEYS, "the storey strengths")
+    gravity_key = _one_of(b, GRAVITY_KEYS, "the gravity loads for P-Delta")
 
     values = {
         "mass": b.numbers("mass", "floor"),
@@ -441,6 +531,32 @@ def _frame(source: str, doc: dict, default_name: str) -> ShearFrame:
                                            f"{', '.join(STIFFNESS_PROFILES)} or a list of numbers")
     elif profile not in STIFFNESS_PROFILES:
         raise b.error("stiffness_profile", _choice_message(profile, STIFFNESS_PROFILES))
+
+    # storey strengths, hardening, laws and gravity loads (validated before the sizes are known)
+    if yield_key == "yield_shear":
+        values["yield_shear"] = b.numbers("yield_shear", "storey")
+    elif yield_key == "yield_drift_ratio":
+        values["yield_drift_ratio"] = b.ratios("yield_drift_ratio", "storey", 0.0, 1.0,
+                                               "a drift ratio > 0 such as 0.005")
+        _nonzero(b, "yield_drift_ratio", "storey", values["yield_drift_ratio"])
+    elif yield_key == "yield_base_shear_coefficient":
+        coefficient = b.number("yield_base_shear_coefficient", positive=True)
+    if "hardening" in b:
+        if yield_key is None:
+            raise b.error("hardening", "only used with yielding storeys; give one of "
+                                       f"{', '.join(YIELD_KEYS)}")
+        values["hardening"] = b.ratios("hardening", "storey", 0.0, 1.0,
+                                       "a post-yield stiffness ratio in [0, 1), e.g. 0.03 for 3 %")
+    laws = _laws(b)
+    if isinstance(laws, list):
+        values["law"] = laws
+    if gravity_key == "gravity_load":
+        values["gravity_load"] = b.numbers("gravity_load", "storey", positive=False, non_negative=True)
+    elif gravity_key == "floor_gravity_load":
+        values["floor_gravity_load"] = b.numbers("floor_gravity_load", "floor", positive=False,
+                                                 non_negative=True)
+    elif gravity_key == "gravity":
+        b.string("gravity", choices=GRAVITY_SOURCES)
 
     storeys = b.integer("storeys", minimum=1)
     lengths = {key: len(v) for key, v in values.items() if isinstance(v, list)}
@@ -459,10 +575,13 @@ def _frame(source: str, doc: dict, default_name: str) -> ShearFrame:
     else:
         n = storeys
 
-    mass = np.broadcast_to(np.asarray(values["mass"], float), (n,)).copy()
-    height = np.broadcast_to(np.asarray(values["height"], float), (n,)).copy()
+    def per_storey(key):
+        return np.broadcast_to(np.asarray(values[key], float), (n,)).copy()
+
+    mass = per_storey("mass")
+    height = per_storey("height")
     if "stiffness" in values:
-        stiffness = values["stiffness"]
+        stiffness = per_storey("stiffness")
     else:
         rel = values.get("stiffness_profile")
         rel = STIFFNESS_PROFILES[profile](n) if rel is None else np.asarray(rel, float)
@@ -470,10 +589,43 @@ def _frame(source: str, doc: dict, default_name: str) -> ShearFrame:
             stiffness = stiffness_for_period(mass, height, period, rel)
         except InputError as exc:
             raise b.error("period", str(exc)) from None
+
+    weight_above = STANDARD_GRAVITY * _sum_from_roof(mass)
+    yield_shear = None
+    if yield_key == "yield_shear":
+        yield_shear = per_storey("yield_shear")
+    elif yield_key == "yield_drift_ratio":
+        yield_shear = stiffness * per_storey("yield_drift_ratio") * height
+    elif yield_key == "yield_base_shear_coefficient":
+        yield_shear = coefficient * weight_above
+    hardening = per_storey("hardening") if "hardening" in values else 0.0
+
+    law_names = None if laws is None else tuple(np.broadcast_to(np.asarray(laws, dtype=object), (n,)))
+    if yield_key is None and law_names is not None:
+        needy = [name for name in law_names if LAWS[name].needs_yield]
+        if needy:
+            raise b.error("law", f"the {needy[0]} law needs storey strengths; give one of "
+                                 f"{', '.join(YIELD_KEYS)}")
+    if yield_key is not None and law_names is not None and not any(LAWS[k].needs_yield for k in law_names):
+        raise b.error(yield_key, "not used: every storey's law is " + ", ".join(sorted(set(law_names)))
+                                 + "; drop it or choose a yielding law")
+    if law_names is None:
+        law_names = ("bilinear" if yield_key is not None else "linear",) * n
+    law_params = _law_params(source, b, law_names, n, stiffness, yield_shear, hardening)
+
+    gravity_load = None
+    if gravity_key == "gravity_load":
+        gravity_load = per_storey("gravity_load")
+    elif gravity_key == "floor_gravity_load":
+        gravity_load = _sum_from_roof(per_storey("floor_gravity_load"))
+    elif gravity_key == "gravity":
+        gravity_load = weight_above
+
     damping = _damping(source, doc, n)
     try:
-        frame = ShearFrame(mass=mass, stiffness=np.broadcast_to(np.asarray(stiffness, float), (n,)).copy(),
-                           height=height, damping=damping, name=name)
+        frame = ShearFrame(mass=mass, stiffness=stiffness, height=height, yield_shear=yield_shear,
+                           hardening=hardening, gravity_load=gravity_load, damping=damping, name=name,
+                           law=None if laws is None else law_names, law_params=law_params or None)
     except InputError as exc:
         raise ConfigError(f"{source}: [building] {exc}") from None
     try:
@@ -481,6 +633,80 @@ def _frame(source: str, doc: dict, default_name: str) -> ShearFrame:
     except InputError as exc:
         raise ConfigError(f"{source}: [damping] {exc}") from None
     return frame
+
+
+def _one_of(table: _Table, keys: tuple[str, ...], what: str) -> str | None:
+    """The one key of ``keys`` present in ``table`` (or None); an error if several are."""
+    given = [key for key in keys if key in table]
+    if len(given) > 1:
+        listed = " and ".join(given) if len(given) == 2 else ", ".join(given[:-1]) + " and " + given[-1]
+        raise table.error(None, f"{listed} {'both' if len(given) == 2 else 'all'} give {what}; "
+                                f"keep one of {', '.join(keys)}")
+    return given[0] if given else None
+
+
+def _nonzero(table: _Table, key: str, item: str, value) -> None:
+    for i, v in enumerate(value if isinstance(value, list) else [value], start=1):
+        if v <= 0.0:
+            has = f"{item} {i} has" if isinstance(value, list) else "got"
+            raise table.error(key, f"{has} {_show(v)}, expected a drift ratio > 0 such as 0.005")
+
+
+def _sum_from_roof(per_floor: np.ndarray) -> np.ndarray:
+    """Storey i carries floors i..N: the running sum from the roof down."""
+    return np.cumsum(np.asarray(per_floor, float)[::-1])[::-1].copy()
+
+
+def _laws(b: _Table) -> str | list[str] | None:
+    """``law``: one name for every storey or a list, each a key of ``simulate.laws.LAWS``."""
+    if "law" not in b:
+        return None
+    raw = b.get("law")
+    if isinstance(raw, str):
+        if raw not in LAWS:
+            raise b.error("law", _choice_message(raw, LAWS))
+        return raw
+    if not isinstance(raw, list) or not raw:
+        raise b.error("law", f"got {_show(raw)}, expected a law name such as \"bilinear\" "
+                             "or a list with one per storey")
+    for i, name in enumerate(raw, start=1):
+        if not isinstance(name, str):
+            raise b.error("law", f"storey {i} has {_show(name)}, expected a law name in quotes")
+        if name not in LAWS:
+            raise b.error("law", f"storey {i}: {_choice_message(name, LAWS)}")
+    return list(raw)
+
+
+def _law_params(source, b: _Table, law_names, n, stiffness, yield_shear, hardening) -> dict:
+    """Parameters from the ``[building.<law>]`` sub-tables, checked by the laws themselves."""
+    params: dict = {}
+    for table_key, law in LAW_TABLES.items():
+        if table_key not in b:
+            continue
+        data = b.get(table_key)
+        if not isinstance(data, dict):
+            raise b.error(table_key, f"got {_show(data)}, expected a table [building.{table_key}]")
+        t = _Table(source, f"[building.{table_key}]", data, tuple(LAWS[law].extra))
+        if law not in law_names:
+            raise t.error(None, f"only used by storeys with law = \"{law}\"; no storey has that law")
+        for key in t.data:
+            value = t.numbers(key, "storey", positive=False)
+            if isinstance(value, list) and len(value) != n:
+                raise t.error(key, f"has {len(value)} values but the frame has {n} storeys; give one "
+                                   "value per storey (or a single number)")
+            params[key] = value
+        cls = LAWS[law]
+        alpha = np.broadcast_to(np.asarray(hardening, float), (n,))
+        for i, name in enumerate(law_names):
+            if name != law:
+                continue
+            row = {key: float(np.broadcast_to(np.asarray(v, float), (n,))[i]) for key, v in params.items()
+                   if key in cls.extra}
+            try:
+                cls.check(i + 1, float(stiffness[i]), float(yield_shear[i]), float(alpha[i]), row)
+            except InputError as exc:
+                raise t.error(None, str(exc)) from None
+    return params
 
 
 def _default_rayleigh_modes(n: int) -> tuple[int, int]:
@@ -494,7 +720,8 @@ def _damping(source: str, doc: dict, n: int):
     if d is None:
         return Rayleigh(ratio=0.05, modes=_default_rayleigh_modes(n))
     model = d.string("model", "rayleigh", choices=DAMPING_MODELS)
-    only = {"modes": ("rayleigh",), "mode": ("mass", "stiffness"), "ratio": ("rayleigh", "modal", "mass", "stiffness")}
+    only = {"modes": ("rayleigh",), "mode": ("mass", "stiffness"),
+            "ratio": ("rayleigh", "modal", "mass", "stiffness"), "stiffness": ("rayleigh", "stiffness")}
     for key, models in only.items():
         if key in d and model not in models:
             used = " and ".join(models)
@@ -513,6 +740,7 @@ def _damping(source: str, doc: dict, n: int):
             raise d.error(key, f"mode {m} does not exist; the frame has {n} storeys and {n} modes")
         return m
 
+    stiffness = d.string("stiffness", "initial", choices=DAMPING_STIFFNESS)
     try:
         if model == "none":
             return NoDamping()
@@ -533,7 +761,7 @@ def _damping(source: str, doc: dict, n: int):
                     raise d.error("modes", f"gives mode {modes[0]} twice; expected two different modes")
             else:
                 modes = _default_rayleigh_modes(n)
-            return Rayleigh(ratio=ratio, modes=modes)
+            return Rayleigh(ratio=ratio, modes=modes, stiffness=stiffness)
         if model == "modal":
             if isinstance(raw, list):
                 if not raw:
@@ -546,8 +774,9 @@ def _damping(source: str, doc: dict, n: int):
             return ModalDamping(ratios=ratios)
         ratio = ratio_value("ratio", raw)
         mode = mode_number("mode", d.get("mode", 1))
-        cls = MassProportional if model == "mass" else StiffnessProportional
-        return cls(ratio=ratio, mode=mode)
+        if model == "mass":
+            return MassProportional(ratio=ratio, mode=mode)
+        return StiffnessProportional(ratio=ratio, mode=mode, stiffness=stiffness)
     except ConfigError:
         raise
     except InputError as exc:
@@ -560,22 +789,35 @@ def _analysis(source: str, doc: dict) -> Analysis:
         return Analysis()
     method = a.string("method", "newmark", choices=METHODS)
     params: dict = {}
-    newmark_keys = [k for k in ("scheme", "gamma", "beta") if k in a]
+    newmark_keys = [k for k in ("scheme", "gamma", "beta") + NEWMARK_SOLVER_KEYS if k in a]
     if newmark_keys and method != "newmark":
         raise a.error(newmark_keys[0], f"only used with method 'newmark', not {method!r}")
     if "scheme" in a:
         if "gamma" in a or "beta" in a:
             raise a.error("scheme", "give either scheme or gamma and beta, not both")
         params = dict(NEWMARK_SCHEMES[a.string("scheme", choices=NEWMARK_SCHEMES)])
-    for key in ("gamma", "beta"):
+    for key in ("gamma", "beta", "tol_drift", "tol_force"):
         if key in a:
             params[key] = a.number(key, positive=True)
+    if "max_iter" in a:
+        params["max_iter"] = a.integer("max_iter", minimum=1)
+    if "max_depth" in a:
+        params["max_depth"] = a.integer("max_depth", minimum=0)
+        if params["max_depth"] > MAX_SPLIT_DEPTH:
+            raise a.error("max_depth", f"got {params['max_depth']}, expected a whole number from 0 to "
+                                       f"{MAX_SPLIT_DEPTH} (a step is split into at most 2^max_depth substeps)")
+    collapse_drift = a.number("collapse_drift", DEFAULT_COLLAPSE_DRIFT, positive=True)
+    if collapse_drift > 1.0:
+        raise a.error("collapse_drift", f"got {collapse_drift!r}, expected a storey drift ratio in (0, 1], "
+                                        "e.g. 0.10 for 10 %")
     return Analysis(
         method=method,
         params=params,
         dt=a.number("dt", positive=True),
         tail=a.number("tail", 0.0, non_negative=True),
         scale=a.number("scale", 1.0, nonzero=True),
+        collapse_drift=collapse_drift,
+        linear_twin=a.boolean("linear_twin"),
     )
 
 

@@ -342,3 +342,204 @@ def test_missing_and_non_utf8_config(tmp_path):
     path.write_bytes(b'title = "ok"\ntitle2 = "caf\xe9"\n')
     with pytest.raises(ConfigError, match=r"latin\.toml:2: not UTF-8"):
         load_config(path)
+
+
+# ------------------------------------------------------------------ yielding storeys, P-Delta
+NL_BASE = """\
+[building]
+mass = [3.0e5, 2.0e5, 1.0e5]
+height = [4.0, 3.0, 3.0]
+stiffness = [4.0e8, 3.0e8, 2.0e8]
+"""
+
+
+def nl_config(tmp_path, building_extra="", tables=""):
+    return load_config(write(tmp_path, NL_BASE + building_extra + tables + HARMONIC_ONLY))
+
+
+def test_linear_building_stays_linear(tmp_path):
+    cfg = nl_config(tmp_path)
+    frame = cfg.frame
+    assert frame.is_linear and frame.yield_shear is None and frame.gravity_load is None
+    assert frame.law == ("linear",) * 3
+    assert cfg.analysis.collapse_drift == 0.10 and cfg.analysis.linear_twin is False
+    assert cfg.strength_from is None and cfg.gravity_from is None
+
+
+def test_yield_shear_hardening_and_default_law(tmp_path):
+    """With a yield key and no law, storeys are bilinear; lists and single numbers both work."""
+    cfg = nl_config(tmp_path, "yield_shear = [1.2e6, 9.0e5, 4.0e5]\nhardening = 0.03\n")
+    frame = cfg.frame
+    np.testing.assert_array_equal(frame.yield_shear, [1.2e6, 9.0e5, 4.0e5])
+    np.testing.assert_array_equal(frame.hardening, [0.03, 0.03, 0.03])
+    assert frame.law == ("bilinear",) * 3 and not frame.is_linear
+    assert cfg.strength_from == "yield_shear"
+    listed = nl_config(tmp_path, "yield_shear = 5e5\nhardening = [0.0, 0.02, 0.05]\n"
+                                 'law = ["bilinear", "peak-oriented", "linear"]\n').frame
+    np.testing.assert_array_equal(listed.yield_shear, [5e5, 5e5, 5e5])
+    np.testing.assert_array_equal(listed.hardening, [0.0, 0.02, 0.05])
+    assert listed.law == ("bilinear", "peak-oriented", "linear")
+
+
+def test_yield_drift_ratio_gives_k_ratio_h(tmp_path):
+    """Vy_i = k_i * ratio * h_i (the definition of the key: yield deformation Vy / k = ratio * h).
+
+    Hand arithmetic: 4e8 * 0.005 * 4.0 = 8.0e6, 3e8 * 0.005 * 3.0 = 4.5e6, 2e8 * 0.005 * 3.0 = 3.0e6 N.
+    """
+    cfg = nl_config(tmp_path, "yield_drift_ratio = 0.005\n")
+    np.testing.assert_allclose(cfg.frame.yield_shear, [8.0e6, 4.5e6, 3.0e6], rtol=1e-14)
+    assert cfg.strength_from == "yield_drift_ratio"
+    per_storey = nl_config(tmp_path, "yield_drift_ratio = [0.004, 0.005, 0.006]\n").frame
+    np.testing.assert_allclose(per_storey.yield_shear, [6.4e6, 4.5e6, 3.6e6], rtol=1e-14)
+
+
+def test_yield_drift_ratio_with_target_period(tmp_path):
+    """With stiffness from a target period the yield deformation is still ratio * h in every storey."""
+    cfg = load_config(write(tmp_path, """
+        [building]
+        mass = [4.0e5, 3.8e5, 3.0e5]
+        height = [4.2, 3.5, 3.5]
+        period = 0.6
+        stiffness_profile = "linear"
+        yield_drift_ratio = 0.004
+    """ + HARMONIC_ONLY))
+    frame = cfg.frame
+    np.testing.assert_allclose(frame.yield_shear / frame.stiffness, 0.004 * frame.height, rtol=1e-14)
+
+
+def test_yield_base_shear_coefficient(tmp_path):
+    """Vy_i = coefficient * g * (mass of floors i..N), g = 9.80665 m/s2 (standard gravity, CGPM 1901).
+
+    Hand arithmetic with masses 3e5, 2e5, 1e5 kg and coefficient 0.1:
+    0.1 * 9.80665 * 6e5 = 588399, * 3e5 = 294199.5, * 1e5 = 98066.5 N.
+    """
+    cfg = nl_config(tmp_path, "yield_base_shear_coefficient = 0.1\n")
+    np.testing.assert_allclose(cfg.frame.yield_shear, [588399.0, 294199.5, 98066.5], rtol=1e-14)
+
+
+def test_gravity_from_masses(tmp_path):
+    """gravity = "mass": P_i = g * (sum of floor masses at and above floor i), g = 9.80665 m/s2.
+
+    Standard gravity (CGPM 1901; ISO 80000-3). Hand arithmetic: 9.80665 * 6e5 = 5883990,
+    * 3e5 = 2941995, * 1e5 = 980665 N.
+    """
+    cfg = nl_config(tmp_path, 'gravity = "mass"\n')
+    np.testing.assert_allclose(cfg.frame.gravity_load, [5883990.0, 2941995.0, 980665.0], rtol=1e-14)
+    assert cfg.gravity_from == "mass"
+    # P-Delta alone makes the frame nonlinear (Newton iterations), its storeys stay linear
+    assert not cfg.frame.is_linear and cfg.frame.law == ("linear",) * 3
+
+
+def test_floor_gravity_load_sums_from_the_roof_down(tmp_path):
+    """Storey i carries the loads of floors i..N: floors 1e6, 2e6, 3e6 N give storeys 6e6, 5e6, 3e6 N."""
+    cfg = nl_config(tmp_path, "floor_gravity_load = [1.0e6, 2.0e6, 3.0e6]\n")
+    np.testing.assert_array_equal(cfg.frame.gravity_load, [6.0e6, 5.0e6, 3.0e6])
+    assert cfg.gravity_from == "floor_gravity_load"
+    one = nl_config(tmp_path, "floor_gravity_load = 2.0e6\n").frame
+    np.testing.assert_array_equal(one.gravity_load, [6.0e6, 4.0e6, 2.0e6])
+    given = nl_config(tmp_path, "gravity_load = [7.0e6, 4.0e6, 1.0e6]\n").frame
+    np.testing.assert_array_equal(given.gravity_load, [7.0e6, 4.0e6, 1.0e6])
+
+
+def test_bouc_wen_parameters(tmp_path):
+    cfg = nl_config(tmp_path, 'yield_shear = 1e6\nlaw = ["bouc-wen", "bouc-wen", "bilinear"]\n',
+                    "[building.bouc_wen]\nA = 1.0\nbeta = [0.6, 0.5, 0.5]\ngamma = 0.2\nn = 3\n")
+    frame = cfg.frame
+    assert frame.law == ("bouc-wen", "bouc-wen", "bilinear")
+    np.testing.assert_array_equal(frame.law_params["beta"], [0.6, 0.5, 0.5])
+    np.testing.assert_array_equal(frame.law_params["gamma"], [0.2, 0.2, 0.2])
+    np.testing.assert_array_equal(frame.law_params["n"], [3.0, 3.0, 3.0])
+
+
+@pytest.mark.parametrize("model", ["rayleigh", "stiffness"])
+def test_damping_on_tangent_stiffness(tmp_path, model):
+    cfg = nl_config(tmp_path, "yield_shear = 1e6\n", f'[damping]\nmodel = "{model}"\nstiffness = "tangent"\n')
+    assert cfg.frame.damping.stiffness == "tangent"
+    default = nl_config(tmp_path, "yield_shear = 1e6\n", f'[damping]\nmodel = "{model}"\n')
+    assert default.frame.damping.stiffness == "initial"
+
+
+def test_analysis_solver_keys_and_twin(tmp_path):
+    cfg = nl_config(tmp_path, "yield_shear = 1e6\n",
+                    "[analysis]\ncollapse_drift = 0.08\ntol_drift = 1e-9\ntol_force = 1e-7\n"
+                    "max_iter = 30\nmax_depth = 5\nlinear_twin = true\n")
+    assert cfg.analysis.collapse_drift == 0.08 and cfg.analysis.linear_twin is True
+    kw = cfg.run_kwargs()
+    assert kw["collapse_drift"] == 0.08
+    assert (kw["tol_drift"], kw["tol_force"], kw["max_iter"], kw["max_depth"]) == (1e-9, 1e-7, 30, 5)
+    other = cfg.run_kwargs(method="state-space")
+    assert "tol_drift" not in other and other["collapse_drift"] == 0.08
+
+
+NL_BAD = {
+    "yield shear zero": ("yield_shear = [1e6, 0.0, 1e6]\n", "",
+                         ["[building] yield_shear", "storey 2 has 0.0", "positive"]),
+    "yield shear negative": ("yield_shear = -1e6\n", "", ["[building] yield_shear", "-1000000.0", "positive"]),
+    "hardening one": ("yield_shear = 1e6\nhardening = [0.0, 1.0, 0.0]\n", "",
+                      ["[building] hardening", "storey 2 has 1.0", "[0, 1)"]),
+    "hardening negative": ("yield_shear = 1e6\nhardening = -0.01\n", "",
+                           ["[building] hardening", "-0.01", "[0, 1)"]),
+    "hardening without strength": ("hardening = 0.03\n", "", ["[building] hardening", "yield_shear"]),
+    "unknown law": ("yield_shear = 1e6\nlaw = \"bilnear\"\n", "",
+                    ["[building] law", "'bilnear'", "did you mean 'bilinear'?"]),
+    "unknown law in a list": ("yield_shear = 1e6\nlaw = [\"bilinear\", \"bouc-wenn\", \"linear\"]\n", "",
+                              ["[building] law", "storey 2", "did you mean 'bouc-wen'?"]),
+    "law list length": ("yield_shear = 1e6\nlaw = [\"bilinear\", \"linear\"]\n", "",
+                        ["[building] law", "2 values", "mass has 3"]),
+    "law without strength": ("law = \"peak-oriented\"\n", "", ["[building] law", "peak-oriented", "yield_shear"]),
+    "strength unused": ("yield_shear = 1e6\nlaw = \"linear\"\n", "", ["[building] yield_shear", "not used"]),
+    "bouc-wen gamma": ("yield_shear = 1e6\nlaw = \"bouc-wen\"\n",
+                       "[building.bouc_wen]\nbeta = 0.4\ngamma = [0.0, 0.0, 0.5]\n",
+                       ["[building.bouc_wen]", "storey 3", "gamma", "[-0.4, 0.4]"]),
+    "bouc-wen key": ("yield_shear = 1e6\nlaw = \"bouc-wen\"\n", "[building.bouc_wen]\nalpha = 0.1\n",
+                     ["[building.bouc_wen]", "'alpha'"]),
+    "bouc-wen table unused": ("yield_shear = 1e6\n", "[building.bouc_wen]\nn = 2\n",
+                              ["[building.bouc_wen]", "bouc-wen", "no storey"]),
+    "bouc-wen list length": ("yield_shear = 1e6\nlaw = \"bouc-wen\"\n", "[building.bouc_wen]\nn = [2, 2]\n",
+                             ["[building.bouc_wen] n", "2 values", "3 storeys"]),
+    "two strength keys": ("yield_shear = 1e6\nyield_drift_ratio = 0.005\n", "",
+                          ["[building]", "yield_shear and yield_drift_ratio", "keep one"]),
+    "three strength keys": ("yield_shear = 1e6\nyield_drift_ratio = 0.005\nyield_base_shear_coefficient = 0.1\n",
+                            "", ["[building]", "yield_shear, yield_drift_ratio and yield_base_shear_coefficient"]),
+    "yield drift ratio zero": ("yield_drift_ratio = [0.005, 0.0, 0.005]\n", "",
+                               ["[building] yield_drift_ratio", "storey 2 has 0.0"]),
+    "coefficient list": ("yield_base_shear_coefficient = [0.1, 0.1, 0.1]\n", "",
+                         ["[building] yield_base_shear_coefficient", "a list", "positive number"]),
+    "gravity two ways": ("gravity_load = 1e6\ngravity = \"mass\"\n", "",
+                         ["[building]", "gravity_load and gravity", "keep one"]),
+    "gravity three ways": ("gravity_load = 1e6\nfloor_gravity_load = 1e6\ngravity = \"mass\"\n", "",
+                           ["[building]", "gravity_load, floor_gravity_load and gravity"]),
+    "gravity source": ("gravity = \"masses\"\n", "", ["[building] gravity", "'masses'", "did you mean 'mass'?"]),
+    "negative floor load": ("floor_gravity_load = [1e6, -1e6, 1e6]\n", "",
+                            ["[building] floor_gravity_load", "floor 2 has -1000000.0"]),
+    "tangent with modal damping": ("yield_shear = 1e6\n", "[damping]\nmodel = \"modal\"\nstiffness = \"tangent\"\n",
+                                   ["[damping] stiffness", "'modal'", "rayleigh and stiffness"]),
+    "damping stiffness value": ("yield_shear = 1e6\n", "[damping]\nstiffness = \"secant\"\n",
+                                ["[damping] stiffness", "'secant'", "initial"]),
+    "collapse drift above one": ("yield_shear = 1e6\n", "[analysis]\ncollapse_drift = 10\n",
+                                 ["[analysis] collapse_drift", "(0, 1]"]),
+    "max_iter not whole": ("yield_shear = 1e6\n", "[analysis]\nmax_iter = 2.5\n",
+                           ["[analysis] max_iter", "whole number"]),
+    "max_depth too deep": ("yield_shear = 1e6\n", "[analysis]\nmax_depth = 40\n",
+                           ["[analysis] max_depth", "0 to 20"]),
+    "tolerance for state-space": ("", "[analysis]\nmethod = \"state-space\"\ntol_force = 1e-6\n",
+                                  ["[analysis] tol_force", "only used with method 'newmark'"]),
+    "twin of a linear frame": ("", "[analysis]\nlinear_twin = true\n", ["[analysis] linear_twin", "already linear"]),
+    "twin not a boolean": ("yield_shear = 1e6\n", "[analysis]\nlinear_twin = \"yes\"\n",
+                           ["[analysis] linear_twin", "true or false"]),
+    "typo in a new key": ("yeild_shear = 1e6\n", "", ["[building]", "'yeild_shear'", "did you mean 'yield_shear'?"]),
+}
+
+
+@pytest.mark.parametrize("case", list(NL_BAD))
+def test_nonlinear_mistakes_name_file_and_key(tmp_path, case):
+    building_extra, tables, fragments = NL_BAD[case]
+    path = tmp_path / "bad.toml"
+    path.write_text(NL_BASE + building_extra + tables + HARMONIC_ONLY)
+    with pytest.raises(ConfigError) as info:
+        load_config(path)
+    message = str(info.value)
+    assert message.startswith(f"{path}: "), message
+    assert "\n" not in message
+    for fragment in fragments:
+        assert fragment in message, (fragment, message)

@@ -2,20 +2,52 @@
 
 from __future__ import annotations
 
+import textwrap
+import warnings
 from pathlib import Path
 
 import click
 import numpy as np
 
+from simulate import linear_twin
 from simulate.cli.options import config_argument, debug_option, positive_float
-from simulate.cli.tables import Column, caution_text, percent, render_table, sig, wrap
-from simulate.config import load_config
+from simulate.cli.tables import (
+    Column, caution_text, energy_percent, number_ranges, percent, plural, render_table, sig,
+    spread, wrap,
+)
+from simulate.config import NEWMARK_SOLVER_KEYS, load_config
 from simulate.errors import ConfigError, InputError
 from simulate.kernels import METHODS
+from simulate.laws import LAWS
 from simulate.results import write_dataset
+from simulate.results.compare import compare
 from simulate.results.netcdf import WRITERS
 from simulate.settings import STANDARD_GRAVITY
 from simulate.suite import run as run_analysis
+
+#: Width of the nonlinear header lines before they wrap.
+HEADER_WIDTH = 100
+#: A space the header wrapping must not break at (printed as a plain space).
+KEEP = "\u00a0"
+
+#: Energy balance errors above this fraction are pointed out under the table.
+ENERGY_ERROR_NOTE = 0.01
+
+NONLINEAR_CAUTION = (
+    "Nonlinear results: 'collapsed' means a storey drift ratio passed the collapse limit in this "
+    "model, not a prediction of when the real building falls. The storey laws do not lose "
+    "strength with repeated cycles and P-Delta is the linearised storey form P/h, so the model "
+    "can overstate the margin against collapse; records that collapsed or did not converge are "
+    "left out of the storey statistics, which therefore describe only the records the frame "
+    "survived."
+)
+
+#: How the P-Delta gravity loads were given, for the header.
+GRAVITY_FROM = {
+    "gravity_load": "as given",
+    "floor_gravity_load": "floor loads summed from the roof down",
+    "mass": "from the floor masses",
+}
 
 
 def _check_output(path: Path, origin: str) -> None:
@@ -30,11 +62,17 @@ def _check_output(path: Path, origin: str) -> None:
         raise InputError(f"{origin}: {path} is a folder; give a file name ending in .nc")
 
 
+def twin_path(target: Path) -> Path:
+    """Where the linear twin's results go: ``<stem>-linear<suffix>`` next to ``target``."""
+    return target.with_name(f"{target.stem}-linear{target.suffix}")
+
+
 @click.command("run", short_help="Run the records and harmonic loads of CONFIG.")
 @config_argument
 @click.option("-o", "--output", type=click.Path(dir_okay=False, path_type=Path), metavar="OUT.nc",
               help="Results file (NetCDF). Default: [output] file of the config, "
-                   "else <config name>.nc in the current folder.")
+                   "else <config name>.nc in the current folder. With [analysis] linear_twin, "
+                   "the linear twin's results go to OUT-linear.nc next to it.")
 @click.option("--method", type=click.Choice(list(METHODS)), default=None,
               help="Integration method (overrides [analysis] method).")
 @click.option("--dt", type=float, default=None, callback=positive_float, metavar="SECONDS",
@@ -44,7 +82,10 @@ def run_command(config: Path, output: Path | None, method: str | None, dt: float
     """Run the records and harmonic loads of CONFIG through its building.
 
     Writes the full response histories and envelopes to a NetCDF file and
-    prints the storey envelopes over all excitations.
+    prints the storey envelopes over all excitations. For a building with
+    yielding storeys or P-Delta it also prints each record's status (ok,
+    not-converged, collapsed), storey ductility and residual drift, and, with
+    [analysis] linear_twin = true, a comparison with the linear twin.
     """
     cfg = load_config(config)
     if output is not None:
@@ -54,11 +95,28 @@ def run_command(config: Path, output: Path | None, method: str | None, dt: float
     else:
         target, origin = Path(f"{cfg.path.stem}.nc"), "default output"
     _check_output(target, origin)
+    twin_target = twin_path(target) if cfg.analysis.linear_twin else None
+    if twin_target is not None:
+        _check_output(twin_target, f"{origin} (linear twin)")
 
     loads = cfg.excitations()
     kwargs = cfg.run_kwargs(method=method, dt=dt)
+    ds = _analyse(cfg, cfg.frame, loads, kwargs, method, dt)
+    twin = None
+    if twin_target is not None:
+        attrs = dict(kwargs["attrs"], linear_twin_of=cfg.frame.name, nonlinear_results_file=target.name)
+        twin = _analyse(cfg, linear_twin(cfg.frame), loads, dict(kwargs, attrs=attrs), method, dt)
+        ds.attrs["linear_twin_results_file"] = twin_target.name
+    written = write_dataset(ds, target)
+    twin_written = write_dataset(twin, twin_target) if twin is not None else None
+    print_report(cfg, ds, written, method_from_option=method is not None, loads=loads,
+                 twin=twin, twin_written=twin_written)
+
+
+def _analyse(cfg, frame, loads, kwargs, method, dt):
+    """``simulate.run`` with user mistakes reported against the config or the options."""
     try:
-        ds = run_analysis(cfg.frame, loads, **kwargs)
+        return run_analysis(frame, loads, **kwargs)
     except ConfigError:
         raise
     except InputError as exc:
@@ -66,12 +124,13 @@ def run_command(config: Path, output: Path | None, method: str | None, dt: float
                      if value is not None]
         where = f"{cfg.path} with {' '.join(overrides)}" if overrides else f"{cfg.path}: [analysis]"
         raise InputError(f"{where}: {exc}") from exc
-    written = write_dataset(ds, target)
-    print_report(cfg, ds, written, method_from_option=method is not None)
 
 
+# ------------------------------------------------------------------ header
 def _method_text(ds) -> str:
     params = [(key[len("method_"):], ds.attrs[key]) for key in ds.attrs if key.startswith("method_")]
+    # the Newton-Raphson settings have a line of their own (nonlinear frames only)
+    params = [(k, v) for k, v in params if k not in NEWMARK_SOLVER_KEYS]
     text = str(ds.attrs.get("method", "?"))
     if params:
         text += " (" + ", ".join(f"{k} = {float(v):.6g}" for k, v in params) + ")"
@@ -90,12 +149,73 @@ def _harmonic_text(spec) -> str:
             f"for {spec.duration:g} s" + (f" ({spec.ramp:g} s ramp)" if spec.ramp else ""))
 
 
-def print_report(cfg, ds, written: Path, *, method_from_option: bool = False) -> None:
-    """The header, per-excitation and per-storey envelope tables, peaks, file and caution."""
+def _laws_text(frame) -> str:
+    """``"bilinear, hardening 0.03"``; several laws: each with its storeys."""
+    groups: dict[str, list[int]] = {}
+    for i, name in enumerate(frame.law, start=1):
+        groups.setdefault(name, []).append(i)
+    parts = []
+    for name, storeys in groups.items():
+        text = name
+        if len(groups) > 1:
+            text += f" (storey{'s' if len(storeys) > 1 else ''} {number_ranges(storeys)})"
+        cls = LAWS[name]
+        index = np.asarray(storeys) - 1
+        if cls.needs_yield:
+            text += f", hardening {spread(np.asarray(frame.hardening)[index])}"
+        for key, default in cls.extra.items():
+            values = np.broadcast_to(np.asarray(frame.law_params.get(key, default), float), (frame.n_storeys,))
+            text += f", {key} {spread(values[index])}"
+        parts.append(text)
+    return "; ".join(parts)
+
+
+def _kn_list(values, n_max: int = 8) -> str:
+    """Storey values in kN, storey 1 first ('-' for none); first and last only for tall frames."""
+    kn = [sig(v / 1000.0) for v in values]
+    if len(kn) <= n_max:
+        return ", ".join(kn) + f"{KEEP}kN"
+    return f"{kn[0]}{KEEP}kN in storey{KEEP}1 to {kn[-1]}{KEEP}kN in storey{KEEP}{len(kn)}"
+
+
+def _strength_text(cfg, frame) -> str | None:
+    if frame.yield_shear is None:
+        return None
+    vy = np.where([not LAWS[name].needs_yield for name in frame.law], np.nan, frame.yield_shear)
+    weight = frame.total_mass * STANDARD_GRAVITY
+    text = f"yield shear {_kn_list(vy)}, storey{KEEP}1 up"
+    if np.isfinite(vy[0]):
+        text += f"; storey{KEEP}1: {sig(vy[0] / weight)}{KEEP}W"
+    if cfg.strength_from and cfg.strength_from != "yield_shear":
+        text += f" (from {cfg.strength_from})"
+    return text
+
+
+def _pdelta_text(cfg, frame) -> str:
+    if frame.gravity_load is None:
+        return "off (no gravity load in [building])"
+    source = GRAVITY_FROM.get(cfg.gravity_from, "")
+    return (f"on; storey gravity loads {_kn_list(frame.gravity_load)}, storey{KEEP}1 up"
+            + (f", {source}" if source else ""))
+
+
+def _solver_text(ds) -> str:
+    p = {key: ds.attrs.get(f"method_{key}") for key in NEWMARK_SOLVER_KEYS}
+    if any(v is None for v in p.values()):
+        return ""
+    return (f"Newton-Raphson: tol_drift {float(p['tol_drift']):g}, tol_force {float(p['tol_force']):g}, "
+            f"max_iter {int(p['max_iter'])}, max_depth {int(p['max_depth'])} (a step is split into "
+            f"at most {2 ** int(p['max_depth'])} substeps)")
+
+
+# ------------------------------------------------------------------ report
+def print_report(cfg, ds, written: Path, *, method_from_option: bool = False, loads=None,
+                 twin=None, twin_written: Path | None = None) -> None:
+    """The header, per-excitation and per-storey tables, peaks, comparison, files and caution."""
     echo = click.echo
     frame = cfg.frame
+    nonlinear = not frame.is_linear
     n = frame.n_storeys
-    g = STANDARD_GRAVITY
     n_rec, n_harm = len(cfg.record_files), len(cfg.harmonics)
 
     if cfg.title:
@@ -112,17 +232,60 @@ def print_report(cfg, ds, written: Path, *, method_from_option: bool = False) ->
         ("building", f"{frame.name}, {n} storey{'s' if n != 1 else ''}, {sig(frame.total_height)} m tall, "
                      f"total mass {sig(frame.total_mass / 1000.0, 4)} t"),
         ("periods", ", ".join(f"T{m + 1} {sig(t)} s" for m, t in enumerate(frame.periods()[:3]))
-         + (" ..." if n > 3 else "")),
+         + (" ..." if n > 3 else "") + (" (elastic)" if nonlinear else "")),
+    ]
+    if nonlinear:
+        header.append(("storeys", _laws_text(frame)))
+        strength = _strength_text(cfg, frame)
+        if strength:
+            header.append(("strength", strength))
+        header.append(("P-Delta", _pdelta_text(cfg, frame)))
+        header.append(("collapse limit", f"storey drift ratio {percent(ds.attrs['collapse_drift'])} % "
+                                         "(an analysis stops there as collapsed)"))
+    header += [
         ("damping", frame.damping.describe()),
         ("method", _method_text(ds) + (" [from --method]" if method_from_option else "")),
+    ]
+    if nonlinear and _solver_text(ds):
+        header.append(("", _solver_text(ds)))
+    header += [
         ("time step", f"{float(ds.attrs['analysis_dt']):g} s"),
         ("excitations", counts),
     ]
     header += [("", _harmonic_text(spec)) for spec in cfg.harmonics]
     width = max(len(label) for label, _ in header)
     for label, text in header:
-        echo(f"{label:<{width}}   {text}")
+        if nonlinear:
+            # the nonlinear header has long lines (strengths, gravity loads): hanging indent
+            lines = textwrap.fill(text, width=HEADER_WIDTH, initial_indent=f"{label:<{width}}   ",
+                                  subsequent_indent=" " * (width + 3), break_on_hyphens=False)
+            echo(lines.replace(KEEP, " "))
+        else:
+            echo(f"{label:<{width}}   {text}")
 
+    if nonlinear:
+        _nonlinear_tables(cfg, ds, loads)
+    else:
+        _linear_tables(cfg, ds)
+    if twin is not None:
+        _twin_comparison(ds, twin)
+    echo()
+    echo(f"results written to {written}")
+    if twin_written is not None:
+        echo(f"linear twin results written to {twin_written}")
+    echo()
+    if nonlinear:
+        echo(wrap(NONLINEAR_CAUTION))
+        echo()
+    echo(caution_text())
+
+
+def _linear_tables(cfg, ds) -> None:
+    """Per-excitation and storey tables of a linear frame (every excitation counts)."""
+    echo = click.echo
+    frame = cfg.frame
+    n = frame.n_storeys
+    g = STANDARD_GRAVITY
     drift = ds["peak_drift_ratio"].transpose("record", "storey").values
     ground = ds["ground_acceleration"].values
     kinds = ds["excitation"].values
@@ -160,17 +323,168 @@ def print_report(cfg, ds, written: Path, *, method_from_option: bool = False) ->
     ))
     echo(wrap("Storey i joins floor i-1 and floor i; its floor acceleration is the absolute "
               "acceleration of floor i, the floor above it."))
+    _peak_lines(frame, ds["peak_base_shear"].values, ds["peak_roof_displacement"].values)
 
-    weight_kn = frame.total_mass * g / 1000.0
-    base = ds["peak_base_shear"].values / 1000.0
-    roof = ds["peak_roof_displacement"].values
-    echo()
+
+def _peak_lines(frame, base_shear, roof, blank: bool = True) -> None:
+    """Max and mean peak base shear and roof displacement over the given records."""
+    echo = click.echo
+    weight_kn = frame.total_mass * STANDARD_GRAVITY / 1000.0
+    base = base_shear / 1000.0
+    if blank:
+        echo()
+    if base.size == 0:
+        echo("peak base shear and roof displacement: no excitation finished with status ok")
+        return
     echo(f"peak base shear          max {sig(base.max())} kN = {sig(base.max() / weight_kn)} W, "
          f"mean {sig(base.mean())} kN = {sig(base.mean() / weight_kn)} W "
          f"(W = weight {sig(weight_kn, 4)} kN)")
     echo(f"peak roof displacement   max {sig(roof.max())} m, mean {sig(roof.mean())} m "
          f"(relative to the ground; max roof drift ratio {percent(roof.max() / frame.total_height)} %)")
+
+
+def _stop_reason(ds, r: int) -> str:
+    """Why record ``r`` stopped, with the time and storey where that is known."""
+    status = str(ds["status"].values[r])
+    dt = float(ds.attrs["analysis_dt"])
+    last = int(ds["n_steps"].values[r]) - 1
+    if status == "collapsed":
+        drift = ds["drift_ratio"].transpose("record", "time", "storey").values[r, last]
+        storey = int(np.nanargmax(np.abs(drift))) + 1
+        return (f"collapsed at {last * dt:.2f} s: storey {storey} drift ratio "
+                f"{percent(abs(drift[storey - 1]))} % passed the {percent(ds.attrs['collapse_drift'])} % limit")
+    if status == "not-converged":
+        depth = int(ds.attrs.get("method_max_depth", 0))
+        split = (f"even with the step split into {2 ** depth} substeps" if depth
+                 else "and max_depth = 0 allows no step splitting")
+        return (f"did not converge in the step after {max(last, 0) * dt:.2f} s (Newton-Raphson "
+                f"failed {split})")
+    return status
+
+
+def _nonlinear_tables(cfg, ds, loads) -> None:
+    """Per-excitation table with status and energy error; storey table over the records that finished."""
+    echo = click.echo
+    frame = cfg.frame
+    n = frame.n_storeys
+    g = STANDARD_GRAVITY
+    dt = float(ds.attrs["analysis_dt"])
+    labels = [str(label) for label in ds["record"].values]
+    status = np.array([str(s) for s in ds["status"].values])
+    ok = status == "ok"
+    drift = ds["peak_drift_ratio"].transpose("record", "storey").values
+    ground = ds["ground_acceleration"].values
+    kinds = ds["excitation"].values
+    scale = ds["scale_factor"].values
+    energy_error = ds["energy_balance_error"].values
+    ductility = (ds["ductility"].transpose("record", "storey").values if "ductility" in ds
+                 else np.full(drift.shape, np.nan))
+    rows = []
+    for r, label in enumerate(labels):
+        if kinds[r] != "base-acceleration":
+            pga = np.nan
+        elif not ok[r] and loads is not None:
+            # the stored ground motion ends where the analysis stopped; the record's peak may come later
+            pga = float(np.max(np.abs(loads[r].to_si()))) * abs(float(scale[r])) / g
+        else:
+            pga = np.nanmax(np.abs(ground[r])) / g
+        worst = int(np.nanargmax(drift[r]))
+        mu = np.nanmax(ductility[r]) if np.isfinite(ductility[r]).any() else np.nan
+        rows.append([
+            label, sig(pga), f"{(int(ds['n_steps'].values[r]) - 1) * dt:.2f}",
+            percent(drift[r, worst]), str(worst + 1), sig(mu),
+            sig(ds["peak_base_shear"].values[r] / 1000.0), energy_percent(energy_error[r]), status[r],
+        ])
     echo()
-    echo(f"results written to {written}")
+    echo(render_table("Peaks per excitation", [
+        Column("excitation", "<"), Column("PGA\n(g)"), Column("analysed\n(s)"),
+        Column("drift ratio\nmax (%)"), Column("in\nstorey"), Column("ductility\nmax"),
+        Column("base shear\n(kN)"), Column("energy\nerror (%)"), Column("status", "<"),
+    ], rows))
+    echo(wrap("PGA: peak ground acceleration of the record as scaled, '-' for floor forces; "
+              "analysed: time analysed, including the free-vibration tail (shorter when the "
+              "analysis stopped); ductility: peak storey deformation / yield deformation Vy/k; "
+              "energy error: largest energy balance error over the record, in % of the input energy."))
+    high = [f"{labels[r]} ({energy_percent(energy_error[r])} %)" for r in range(len(labels))
+            if ok[r] and energy_error[r] > ENERGY_ERROR_NOTE]
+    if high:
+        echo(wrap(f"Energy balance error above {ENERGY_ERROR_NOTE * 100:g} %: {', '.join(high)}; "
+                  "a smaller time step (--dt) should reduce it."))
+
+    n_ok = int(ok.sum())
+    pfa = ds["peak_floor_acceleration"].transpose("record", "floor").values[ok] / g
+    shear = ds["peak_storey_shear"].transpose("record", "storey").values[ok] / 1000.0
+    resid = np.abs(ds["residual_drift_ratio"].transpose("record", "storey").values[ok])
+    d_ok, mu_ok = drift[ok], ductility[ok]
+
+    def pair(values, fmt):
+        if values.size == 0 or not np.isfinite(values).any():
+            return ["-", "-"]
+        return [fmt(np.nanmax(values)), fmt(np.nanmean(values))]
+
+    rows = [[str(i + 1)] + pair(d_ok[:, i], percent) + pair(pfa[:, i], sig) + pair(shear[:, i], sig)
+            + pair(mu_ok[:, i], sig) + pair(resid[:, i], percent) for i in reversed(range(n))]
     echo()
-    echo(caution_text())
+    if n_ok == 0:
+        echo("Storey envelopes: none, no excitation finished with status ok.")
+    else:
+        title = (f"Storey envelopes: max and mean over the {plural(n_ok, 'excitation')} with status ok"
+                 + (f" ({len(labels) - n_ok} of {len(labels)} left out)" if n_ok < len(labels) else ""))
+        echo(render_table(
+            title,
+            [Column("storey", "<")] + [Column(h) for h in ("max", "mean") * 5],
+            rows,
+            groups=[("", 1), ("drift ratio (%)", 2), ("floor acc. (g)", 2), ("shear (kN)", 2),
+                    ("ductility", 2), ("residual (%)", 2)],
+        ))
+        echo(wrap("Storey i joins floor i-1 and floor i; its floor acceleration is that of floor i. "
+                  "Residual: |storey drift ratio| at the end of the analysis. Max and mean are over "
+                  "the excitations with status ok only."))
+    stopped = [f"{labels[r]} {_stop_reason(ds, r)}" for r in range(len(labels)) if not ok[r]]
+    if stopped:
+        echo(wrap("Left out: " + "; ".join(stopped) + "."))
+    if 0 < n_ok < len(labels):
+        echo()
+        echo(f"Over the {plural(n_ok, 'excitation')} with status ok:")
+    _peak_lines(frame, ds["peak_base_shear"].values[ok], ds["peak_roof_displacement"].values[ok],
+                blank=n_ok == len(labels) or n_ok == 0)
+
+
+def _twin_comparison(ds, twin) -> None:
+    """Median over the records that finished of nonlinear / linear peak drift, and R."""
+    echo = click.echo
+    table = twin_comparison(ds, twin)
+    n_used = len(table["records"])
+    if n_used == 0:
+        echo()
+        echo("Against the linear twin: no comparison, no excitation finished with status ok.")
+        return
+    rows = [[str(i + 1), sig(table["drift_ratio"][i])] for i in reversed(range(ds.sizes["storey"]))]
+    echo()
+    echo(render_table(
+        f"Against the linear twin: medians over the {plural(n_used, 'excitation')} with status ok",
+        [Column("storey", "<"), Column("peak drift ratio\nnonlinear / linear")], rows))
+    echo(f"effective strength reduction R = elastic / inelastic peak base shear: "
+         f"{sig(table['strength_reduction'])}")
+    echo(wrap("Linear twin: same masses, heights, elastic stiffness and damping, linear storeys, "
+              "no P-Delta, same excitations. Each ratio is taken record by record, then the "
+              "median over the records is shown."))
+
+
+def twin_comparison(ds, twin) -> dict:
+    """Per storey: median over records with status ok of peak drift ratio nonlinear / linear;
+    and R, the median of elastic / inelastic peak base shear over the same records.
+
+    Uses ``simulate.results.compare.compare`` (a = the linear twin, b = the nonlinear frame) for the
+    per-record ratios and keeps the records the nonlinear analysis finished.
+    """
+    both = compare(twin, ds, names=("linear twin", "nonlinear frame"))
+    keep = np.array([str(s) == "ok" for s in both["status_b"].values])
+    ratio = both["ratio_peak_drift_ratio"].transpose("record", "storey").values[keep]
+    R = both["strength_reduction_factor"].values[keep]
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)   # all-NaN columns when no record finished
+        drift = np.nanmedian(ratio, axis=0) if ratio.size else np.full(ds.sizes["storey"], np.nan)
+        r_median = float(np.nanmedian(R)) if R.size else float("nan")
+    return {"records": [str(x) for x in both["record"].values[keep]], "drift_ratio": drift,
+            "strength_reduction": r_median}

@@ -105,3 +105,40 @@ def wrap(text: str, indent: str = "") -> str:
 def caution_text() -> str:
     """The caution that ends every report."""
     return wrap(f"Caution: {CAUTION}")
+
+
+def plural(count: int, word: str) -> str:
+    """``"1 record"``, ``"3 records"``."""
+    return f"{count} {word}{'' if count == 1 else 's'}"
+
+
+def number_ranges(numbers) -> str:
+    """Sorted whole numbers with runs shortened: ``[1, 2, 3, 5]`` -> ``"1-3, 5"``."""
+    numbers = sorted(int(k) for k in numbers)
+    parts = []
+    start = prev = None
+    for k in numbers + [None]:
+        if start is not None and (k is None or k != prev + 1):
+            parts.append(str(start) if start == prev else f"{start}-{prev}")
+            start = None
+        if k is not None and start is None:
+            start = k
+        prev = k
+    return ", ".join(parts)
+
+
+def spread(values) -> str:
+    """One value when all are equal, else ``"lowest to highest"`` (3 significant digits, no trailing zeros)."""
+    values = [float(v) for v in values]
+    low, high = f"{min(values):.3g}", f"{max(values):.3g}"
+    return low if low == high else f"{low} to {high}"
+
+
+def energy_percent(ratio) -> str:
+    """An energy balance error in per cent with two decimals; ``"<0.01"`` below that, ``"-"`` for NaN."""
+    value = 100.0 * float(ratio)
+    if math.isnan(value):
+        return "-"
+    if 0.0 < abs(value) < 0.005:
+        return "<0.01"
+    return f"{value:.2f}"

@@ -11,6 +11,9 @@ from . import write_tiny_case
 
 GOOD = "0.00 0.0\n0.01 0.1\n0.02 0.2\n0.03 0.1\n0.04 0.0\n"
 
+#: The stiffness line of the tiny config; new [building] keys go after it.
+STIFFNESS = "stiffness = [4.0e8, 3.2e8, 2.4e8]"
+
 #: case -> (config extra text or replacement, record text, fragments the message must hold)
 CASES = {
     "typo in key": dict(edit=("stiffness =", "stifness ="),
@@ -25,6 +28,25 @@ CASES = {
     "negative mass": dict(edit=("mass = [3.0e5, 3.0e5, 2.5e5]", "mass = [3.0e5, -3.0e5, 2.5e5]"),
                           expect=["tiny.toml", "[building] mass", "floor 2", "-300000.0"]),
     "toml syntax": dict(edit=("[analysis]", "[analysis"), expect=["tiny.toml:7", "TOML"]),
+    # yielding storeys, P-Delta and the new [damping] / [analysis] keys
+    "yield shear zero": dict(edit=(STIFFNESS, STIFFNESS + "\nyield_shear = [1e6, 0, 1e6]"),
+                             expect=["tiny.toml", "[building] yield_shear", "storey 2"]),
+    "hardening outside [0, 1)": dict(edit=(STIFFNESS, STIFFNESS + "\nyield_shear = 1e6\nhardening = 1.5"),
+                                     expect=["tiny.toml", "[building] hardening", "1.5", "[0, 1)"]),
+    "unknown law": dict(edit=(STIFFNESS, STIFFNESS + "\nyield_shear = 1e6\nlaw = \"bilnear\""),
+                        expect=["tiny.toml", "[building] law", "did you mean 'bilinear'?"]),
+    "bouc-wen gamma": dict(edit=(STIFFNESS, STIFFNESS + "\nyield_shear = 1e6\nlaw = \"bouc-wen\"\n"
+                                 "[building.bouc_wen]\nbeta = 0.5\ngamma = -0.8"),
+                           expect=["tiny.toml", "[building.bouc_wen]", "storey 1", "gamma"]),
+    "two strength keys": dict(edit=(STIFFNESS, STIFFNESS + "\nyield_shear = 1e6\nyield_drift_ratio = 0.004"),
+                              expect=["tiny.toml", "[building]", "yield_shear and yield_drift_ratio"]),
+    "gravity two ways": dict(edit=(STIFFNESS, STIFFNESS + "\ngravity = \"mass\"\nfloor_gravity_load = 1e6"),
+                             expect=["tiny.toml", "[building]", "floor_gravity_load and gravity"]),
+    "tangent with modal damping": dict(edit=("[analysis]", "[damping]\nmodel = \"modal\"\n"
+                                             "stiffness = \"tangent\"\n[analysis]"),
+                                       expect=["tiny.toml", "[damping] stiffness", "'modal'"]),
+    "twin of a linear frame": dict(edit=("tail = 0.5", "tail = 0.5\nlinear_twin = true"),
+                                   expect=["tiny.toml", "[analysis] linear_twin"]),
 }
 
 

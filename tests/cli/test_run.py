@@ -185,3 +185,14 @@ def test_sig_agrees_with_python_formatting():
     for x in 10.0 ** rng.uniform(3, 6.9, 50):
         assert float(sig(x)) == float(format(x, ".3g"))
     assert sig(float("nan")) == "-"
+
+
+def test_linear_report_has_no_nonlinear_parts(tmp_path):
+    """A linear frame keeps the linear report: no status, ductility, P-Delta or Newton lines."""
+    config = write_tiny_case(tmp_path / "case")
+    result = CliRunner().invoke(main, ["run", str(config), "-o", str(tmp_path / "lin.nc")])
+    assert result.exit_code == 0, result.output
+    lines = result.stdout.splitlines()
+    assert "method        newmark (gamma = 0.5, beta = 0.25)" in lines
+    for word in ("status", "ductility", "P-Delta", "Newton", "collapse", "linear twin"):
+        assert word not in result.stdout, word
