@@ -19,3 +19,6 @@ from simulate.excitation.suites import expand_records, read_suite  # noqa: E402
 from simulate.excitation.processing import bandpass, baseline_correct, pad, resample, taper  # noqa: E402
 __all__ += ["read_records", "write_record", "read_suite", "expand_records",
             "baseline_correct", "bandpass", "taper", "resample", "pad"]
+from simulate.excitation.spectra import inelastic_spectrum, log_periods, response_spectrum  # noqa: E402
+from simulate.excitation.intensity import intensity_measures  # noqa: E402
+__all__ += ["response_spectrum", "inelastic_spectrum", "log_periods", "intensity_measures"]
