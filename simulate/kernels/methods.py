@@ -39,9 +39,13 @@ class Method:
             )
         self.params = {**self.defaults, **{k: float(v) for k, v in params.items()}}
 
-    def attributes(self) -> dict:
+    #: parameters that matter only for frames with yielding storeys or P-Delta
+    nonlinear_only: tuple = ()
+
+    def attributes(self, linear: bool = False) -> dict:
         """Method name and parameters for the dataset attributes."""
-        return {"method": self.name, **{f"method_{k}": v for k, v in self.params.items()}}
+        return {"method": self.name, **{f"method_{k}": v for k, v in self.params.items()
+                                        if not (linear and k in self.nonlinear_only)}}
 
     def prepare(self, frame, dt: float) -> tuple:
         raise NotImplementedError
@@ -71,6 +75,7 @@ class Newmark(Method):
     name = "newmark"
     defaults = {"gamma": 0.5, "beta": 0.25, "tol_drift": 1e-10, "tol_force": 1e-8,
                 "max_iter": 25, "max_depth": 8}
+    nonlinear_only = ("tol_drift", "tol_force", "max_iter", "max_depth")
     summary = "Newmark-beta, implicit, O(N) per step for tridiagonal damping; Newton iterations when storeys yield"
 
     def prepare(self, frame, dt):

@@ -274,7 +274,7 @@ def _newmark_nonlinear(m, h, law, P, S_init, kg, cd_in, co_in, C, dense, tangent
                             S[j, q] = St[j, q]
                 if ok:
                     break
-                if depth == max_depth:
+                if depth == max_depth and nsub == 1:
                     status = 1
                     break
                 if nsub == 1:
@@ -308,6 +308,10 @@ def _newmark_nonlinear(m, h, law, P, S_init, kg, cd_in, co_in, C, dense, tangent
                             S[j, q] = bS[j, q]
                     e_in = be_in
                     e_d = be_d
+                    if depth == max_depth:
+                        # give up: the state is back at the last converged step
+                        status = 1
+                        break
                 nsub *= 2
                 depth += 1
             if status != 0:

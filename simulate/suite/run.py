@@ -129,7 +129,7 @@ def _dataset(frame, records, plan, integrator, ag, outputs, extra, attrs) -> xr.
         storeys=n,
         damping=frame.damping.describe(),
         analysis_dt=plan.dt,
-        **integrator.attributes(),
+        **integrator.attributes(linear=frame.is_linear),
     )
     if attrs:
         ds.attrs.update(attrs)
