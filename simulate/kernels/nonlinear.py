@@ -213,6 +213,7 @@ def _newmark_nonlinear(m, h, law, P, S_init, kg, cd_in, co_in, C, dense, tangent
                             for j in range(n):
                                 for l in range(n):
                                     J[j, l] = g1 * C[j, l]
+                            for j in range(n):
                                 J[j, j] += c1 * m[j] + kt[j] - kg[j]
                                 if j < n - 1:
                                     kn = kt[j + 1] - kg[j + 1]
