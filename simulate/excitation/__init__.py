@@ -22,3 +22,12 @@ __all__ += ["read_records", "write_record", "read_suite", "expand_records",
 from simulate.excitation.spectra import inelastic_spectrum, log_periods, response_spectrum  # noqa: E402
 from simulate.excitation.intensity import intensity_measures  # noqa: E402
 __all__ += ["response_spectrum", "inelastic_spectrum", "log_periods", "intensity_measures"]
+from simulate.excitation.targets import TARGETS, ASCE7Spectrum, EC8Spectrum, FileSpectrum, Target, make_target  # noqa: E402
+from simulate.excitation.scaling import SCALING_METHODS, ScalingReport, scale_records, scale_to_sa, scale_to_spectrum  # noqa: E402
+from simulate.excitation.synthetic import (  # noqa: E402
+    JenningsHousnerTsai, SaragoniHart, Trapezoid, kanai_tajimi_psd, kanai_tajimi_record,
+    spectrum_compatible, stationary_kanai_tajimi)
+__all__ += ["TARGETS", "Target", "ASCE7Spectrum", "EC8Spectrum", "FileSpectrum", "make_target",
+            "SCALING_METHODS", "ScalingReport", "scale_records", "scale_to_sa", "scale_to_spectrum",
+            "SaragoniHart", "JenningsHousnerTsai", "Trapezoid", "kanai_tajimi_psd",
+            "stationary_kanai_tajimi", "kanai_tajimi_record", "spectrum_compatible"]
