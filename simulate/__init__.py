@@ -16,7 +16,10 @@ Results support, and never replace, the judgement of a qualified engineer.
 from simulate._version import __version__
 from simulate.errors import ConfigError, InputError, RecordError
 from simulate.excitation import (
-    FloorForces, Record, harmonic_floor_force, harmonic_ground_motion, read_record,
+    RECORD_SETS, FloorForces, Record, bandpass, baseline_correct, expand_records,
+    harmonic_floor_force, harmonic_ground_motion, inelastic_spectrum, intensity_measures,
+    log_periods, pad, read_record, read_records, read_suite, record_set, record_set_metadata,
+    resample, response_spectrum, taper, write_record,
 )
 from simulate.kernels import METHODS, NEWMARK_SCHEMES
 from simulate.laws import LAWS
@@ -34,6 +37,9 @@ __all__ = [
     "METHODS", "NEWMARK_SCHEMES", "MassProportional", "ModalDamping", "NoDamping", "Rayleigh",
     "ShearFrame", "StiffnessProportional", "stiffness_for_period", "envelopes", "read_dataset",
     "write_dataset", "run", "LAWS", "linear_twin",
+    "RECORD_SETS", "bandpass", "baseline_correct", "expand_records", "inelastic_spectrum",
+    "intensity_measures", "log_periods", "pad", "read_records", "read_suite", "record_set",
+    "record_set_metadata", "resample", "response_spectrum", "taper", "write_record",
 ]
 
 

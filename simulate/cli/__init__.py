@@ -10,8 +10,10 @@ import click
 
 from simulate._version import __version__
 from simulate.cli.modes import modes_command
+from simulate.cli.motions import motions_command
 from simulate.cli.options import ErrorReportingGroup, debug_option
 from simulate.cli.run import run_command
+from simulate.cli.spectrum import spectrum_command
 
 __all__ = ["main"]
 
@@ -28,3 +30,5 @@ def main():
 
 main.add_command(run_command)
 main.add_command(modes_command)
+main.add_command(motions_command)
+main.add_command(spectrum_command)
