@@ -21,6 +21,11 @@ from simulate.excitation import (
     log_periods, pad, read_record, read_records, read_suite, record_set, record_set_metadata,
     resample, response_spectrum, taper, write_record,
 )
+from simulate.excitation import (
+    TARGETS, ASCE7Spectrum, EC8Spectrum, FileSpectrum, ScalingReport, kanai_tajimi_record,
+    make_target, scale_records, scale_to_sa, scale_to_spectrum, spectrum_compatible,
+    stationary_kanai_tajimi,
+)
 from simulate.kernels import METHODS, NEWMARK_SCHEMES
 from simulate.laws import LAWS
 from simulate.model import (
@@ -40,6 +45,9 @@ __all__ = [
     "RECORD_SETS", "bandpass", "baseline_correct", "expand_records", "inelastic_spectrum",
     "intensity_measures", "log_periods", "pad", "read_records", "read_suite", "record_set",
     "record_set_metadata", "resample", "response_spectrum", "taper", "write_record",
+    "TARGETS", "ASCE7Spectrum", "EC8Spectrum", "FileSpectrum", "ScalingReport",
+    "kanai_tajimi_record", "make_target", "scale_records", "scale_to_sa", "scale_to_spectrum",
+    "spectrum_compatible", "stationary_kanai_tajimi",
 ]
 
 

@@ -13,6 +13,7 @@ from simulate.cli.modes import modes_command
 from simulate.cli.motions import motions_command
 from simulate.cli.options import ErrorReportingGroup, debug_option
 from simulate.cli.run import run_command
+from simulate.cli.scale import scale_command
 from simulate.cli.spectrum import spectrum_command
 
 __all__ = ["main"]
@@ -32,3 +33,4 @@ main.add_command(run_command)
 main.add_command(modes_command)
 main.add_command(motions_command)
 main.add_command(spectrum_command)
+main.add_command(scale_command)
