@@ -32,7 +32,8 @@ from simulate.model import (
     MassProportional, ModalDamping, NoDamping, Rayleigh, ShearFrame, StiffnessProportional,
     stiffness_for_period,
 )
-from simulate.results import envelopes, read_dataset, write_dataset
+from simulate.analysis import PATTERNS, load_pattern, pushover
+from simulate.results import compare, envelopes, read_dataset, suite_statistics, write_dataset
 from simulate.settings import CAUTION, STANDARD_GRAVITY
 from simulate.suite import run
 
@@ -48,6 +49,7 @@ __all__ = [
     "TARGETS", "ASCE7Spectrum", "EC8Spectrum", "FileSpectrum", "ScalingReport",
     "kanai_tajimi_record", "make_target", "scale_records", "scale_to_sa", "scale_to_spectrum",
     "spectrum_compatible", "stationary_kanai_tajimi",
+    "PATTERNS", "load_pattern", "pushover", "compare", "suite_statistics",
 ]
 
 

@@ -9,12 +9,15 @@ from __future__ import annotations
 import click
 
 from simulate._version import __version__
+from simulate.cli.compare import compare_command
 from simulate.cli.modes import modes_command
 from simulate.cli.motions import motions_command
 from simulate.cli.options import ErrorReportingGroup, debug_option
+from simulate.cli.pushover import pushover_command
 from simulate.cli.run import run_command
 from simulate.cli.scale import scale_command
 from simulate.cli.spectrum import spectrum_command
+from simulate.cli.summary import summary_command
 
 __all__ = ["main"]
 
@@ -34,3 +37,6 @@ main.add_command(modes_command)
 main.add_command(motions_command)
 main.add_command(spectrum_command)
 main.add_command(scale_command)
+main.add_command(pushover_command)
+main.add_command(compare_command)
+main.add_command(summary_command)

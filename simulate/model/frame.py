@@ -6,7 +6,7 @@ Floors and storeys are numbered from the ground up. Floor 0 is the ground; floor
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field, replace
+from dataclasses import dataclass, replace
 from functools import cached_property
 
 import numpy as np
@@ -59,8 +59,9 @@ class ShearFrame:
         Post-yield stiffness ratio alpha (0 <= alpha < 1).
     gravity_load : None or float or (N,) array
         Axial gravity load carried by each storey, N (for P-Delta).
-    damping : Damping
-        Damping model; default 5 % Rayleigh in modes 1 and 3.
+    damping : Damping, optional
+        Damping model; default 5 % Rayleigh in modes 1 and 3 (modes 1 and 2 for a
+        two-storey frame).
     name : str
         Label for reports.
     law : None, str or sequence of str
@@ -80,7 +81,7 @@ class ShearFrame:
     yield_shear: np.ndarray | None = None
     hardening: np.ndarray | float = 0.0
     gravity_load: np.ndarray | None = None
-    damping: Damping = field(default_factory=lambda: Rayleigh(ratio=0.05, modes=(1, 3)))
+    damping: Damping | None = None
     name: str = "frame"
     law: str | tuple | None = None
     law_params: dict | None = None
@@ -109,6 +110,8 @@ class ShearFrame:
         if self.gravity_load is not None:
             object.__setattr__(self, "gravity_load",
                                _storey_array("gravity_load", self.gravity_load, n, allow_zero=True))
+        if self.damping is None:
+            object.__setattr__(self, "damping", Rayleigh(ratio=0.05, modes=(1, 3) if n >= 3 else (1, 2)))
         if not isinstance(self.damping, Damping):
             raise InputError(f"damping must be a damping model such as Rayleigh(...), got {self.damping!r}")
         self._check_laws(n)
