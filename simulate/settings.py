@@ -2,8 +2,46 @@
 
 from __future__ import annotations
 
+import hashlib
+import os
+from pathlib import Path
+
 #: Standard acceleration of gravity, m/s^2 (CGPM 1901; ISO 80000-3).
 STANDARD_GRAVITY = 9.80665
+
+def _numba_cache_dir() -> str | None:
+    """A numba cache folder keyed by the source of every kernel and storey law.
+
+    numba invalidates a cached function only when its own file changes, not when a
+    function it inlines from another file does (a storey law inlined into the
+    Newton-Newmark kernel, say), so an edited law or an upgraded package could run
+    stale machine code. Keying the folder by a hash of all numba source files makes
+    any change compile afresh. A NUMBA_CACHE_DIR set by the user wins.
+    """
+    if os.environ.get("NUMBA_CACHE_DIR"):
+        return None
+    package = Path(__file__).resolve().parent
+    digest = hashlib.sha256()
+    for folder in ("kernels", "laws"):
+        for path in sorted((package / folder).glob("*.py")):
+            digest.update(path.name.encode())
+            digest.update(path.read_bytes())
+    digest.update(Path(__file__).read_bytes())
+    root = Path(os.environ.get("XDG_CACHE_HOME") or Path.home() / ".cache") / "swaysim" / "numba"
+    folder = root / digest.hexdigest()[:16]
+    try:
+        folder.mkdir(parents=True, exist_ok=True)
+    except OSError:
+        return None  # unwritable home: numba's default (__pycache__ beside the sources)
+    return str(folder)
+
+
+_CACHE_DIR = _numba_cache_dir()
+if _CACHE_DIR is not None:
+    os.environ["NUMBA_CACHE_DIR"] = _CACHE_DIR
+    import numba.core.config
+
+    numba.core.config.CACHE_DIR = _CACHE_DIR
 
 #: Options for every serial numba kernel.
 JIT = dict(cache=True, nogil=True, fastmath=False, error_model="numpy")
