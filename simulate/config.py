@@ -48,7 +48,8 @@ loads) and where the results go (``[output]``)::
     scheme = "average-acceleration"   # newmark only; or gamma and beta
     dt = 0.005                        # optional; default the smallest record step
     tail = 0.0                        # s of free vibration after each excitation
-    scale = 1.0                       # factor on every ground-motion record
+    scale = 1.0                       # factor on every ground-motion record, or a list of
+                                      # factors: one analysis per record and factor (swaysim run)
     collapse_drift = 0.10             # storey drift ratio that stops a nonlinear analysis
     tol_drift = 1e-10                 # newmark only: Newton tolerances and step splitting
     tol_force = 1e-8
@@ -293,7 +294,9 @@ class Analysis:
     """The ``[analysis]`` table: method and parameters, time step, tail, scale, collapse limit.
 
     ``linear_twin`` asks for a second run of the frame's linear twin on the same
-    excitations (see :func:`simulate.linear_twin`).
+    excitations (see :func:`simulate.linear_twin`). ``scales`` holds every factor of
+    ``scale`` (a list in the config: one analysis per record and factor); ``scale``
+    is the first of them.
     """
 
     method: str = "newmark"
@@ -303,6 +306,7 @@ class Analysis:
     scale: float = 1.0
     collapse_drift: float = DEFAULT_COLLAPSE_DRIFT
     linear_twin: bool = False
+    scales: tuple[float, ...] = (1.0,)
 
 
 @dataclass(frozen=True)
@@ -385,6 +389,10 @@ class Config:
             loads.append(self._harmonic(spec))
         return loads
 
+    def harmonic_loads(self) -> list[Record | FloorForces]:
+        """The ``[[harmonic]]`` loads, in config order (ConfigError for one that cannot be built)."""
+        return [self._harmonic(spec) for spec in self.harmonics]
+
     def _harmonic(self, spec: Harmonic) -> Record | FloorForces:
         try:
             if spec.kind == "ground":
@@ -396,9 +404,19 @@ class Config:
         except InputError as exc:
             raise ConfigError(f"{self.path}: [[harmonic]] #{spec.index}: {exc}") from None
 
-    def scale_factors(self) -> list[float]:
-        """One factor per excitation: ``[analysis] scale`` on records, 1 on harmonic loads."""
-        return [self.analysis.scale] * len(self.record_files) + [1.0] * len(self.harmonics)
+    def scale_factors(self, scale: float | None = None) -> list[float]:
+        """One factor per excitation: ``[analysis] scale`` on records, 1 on harmonic loads.
+
+        ``scale`` replaces the config's factor; it is needed when ``[analysis] scale``
+        lists several factors (a suite runs each record once per factor).
+        """
+        if scale is None:
+            if len(self.analysis.scales) > 1:
+                raise ConfigError(
+                    f"{self.path}: [analysis] scale: lists {len(self.analysis.scales)} factors; one run "
+                    "of simulate.run takes one factor per record (swaysim run runs every factor)")
+            scale = self.analysis.scale
+        return [float(scale)] * len(self.record_files) + [1.0] * len(self.harmonics)
 
     def attributes(self) -> dict:
         """Dataset attributes that tie results to this config."""
@@ -411,18 +429,20 @@ class Config:
             attrs["config_title"] = self.title
         return attrs
 
-    def run_kwargs(self, method: str | None = None, dt: float | None = None) -> dict:
+    def run_kwargs(self, method: str | None = None, dt: float | None = None,
+                   scale: float | None = None) -> dict:
         """Keyword arguments for ``simulate.run(frame, excitations, **kwargs)``.
 
         ``method`` and ``dt`` override the config (command-line options); the
         config's method parameters apply only when the method stays the same.
+        ``scale`` picks the record factor when ``[analysis] scale`` lists several.
         """
         chosen = self.analysis.method if method is None else method
         params = dict(self.analysis.params) if chosen == self.analysis.method else {}
         return dict(
             dt=self.analysis.dt if dt is None else dt,
             method=chosen,
-            scale=self.scale_factors(),
+            scale=self.scale_factors(scale),
             tail=self.analysis.tail,
             collapse_drift=self.analysis.collapse_drift,
             attrs=self.attributes(),
@@ -806,6 +826,7 @@ def _analysis(source: str, doc: dict) -> Analysis:
         if params["max_depth"] > MAX_SPLIT_DEPTH:
             raise a.error("max_depth", f"got {params['max_depth']}, expected a whole number from 0 to "
                                        f"{MAX_SPLIT_DEPTH} (a step is split into at most 2^max_depth substeps)")
+    scales = _scales(a)
     collapse_drift = a.number("collapse_drift", DEFAULT_COLLAPSE_DRIFT, positive=True)
     if collapse_drift > 1.0:
         raise a.error("collapse_drift", f"got {collapse_drift!r}, expected a storey drift ratio in (0, 1], "
@@ -815,10 +836,24 @@ def _analysis(source: str, doc: dict) -> Analysis:
         params=params,
         dt=a.number("dt", positive=True),
         tail=a.number("tail", 0.0, non_negative=True),
-        scale=a.number("scale", 1.0, nonzero=True),
+        scale=scales[0],
         collapse_drift=collapse_drift,
         linear_twin=a.boolean("linear_twin"),
+        scales=scales,
     )
+
+
+def _scales(a: _Table) -> tuple[float, ...]:
+    """``scale``: one non-zero factor or a list of different non-zero factors."""
+    if not isinstance(a.get("scale"), list):
+        return (a.number("scale", 1.0, nonzero=True),)
+    values = a.numbers("scale", "factor", positive=False)
+    for i, value in enumerate(values, start=1):
+        if value == 0.0:
+            raise a.error("scale", f"factor {i} is 0, which removes the record; expected non-zero factors")
+        if value in values[:i - 1]:
+            raise a.error("scale", f"factor {i} ({value:g}) is listed twice")
+    return tuple(values)
 
 
 def _records(source: str, doc: dict, folder: Path) -> tuple[tuple[Path, ...], str, float | None]:

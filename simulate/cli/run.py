@@ -1,4 +1,15 @@
-"""``swaysim run CONFIG``: time-history analysis of every excitation in a config."""
+"""``swaysim run CONFIG``: time-history analysis of every excitation in a config.
+
+Every run is a suite of jobs (``simulate.suite.jobs``): each record at each scale
+factor, and each harmonic load, through the frame (and its linear twin). The jobs
+run in batches in this process, in a process pool (``--workers``) or on a Dask
+cluster (``--scheduler``, ``--cluster local``); each finished batch is saved in
+the run folder (default ``<output stem>.run`` next to the output) before it
+counts as done, so ``--resume`` continues a run that was killed. When all jobs
+are done the results file is written and the default run folder is removed; a
+run folder given with ``--run-dir`` is kept (``swaysim collect`` rebuilds the
+results from it).
+"""
 
 from __future__ import annotations
 
@@ -8,22 +19,24 @@ from pathlib import Path
 
 import click
 import numpy as np
+import xarray as xr
 
-from simulate import linear_twin
 from simulate.cli.options import config_argument, debug_option, positive_float
 from simulate.cli.tables import (
     Column, caution_text, energy_percent, number_ranges, percent, plural, render_table, sig,
     spread, wrap,
 )
 from simulate.config import NEWMARK_SOLVER_KEYS, load_config
-from simulate.errors import ConfigError, InputError
+from simulate.errors import ConfigError, InputError, RecordError
 from simulate.kernels import METHODS
 from simulate.laws import LAWS
-from simulate.results import write_dataset
 from simulate.results.compare import compare
 from simulate.results.netcdf import WRITERS
 from simulate.settings import STANDARD_GRAVITY
 from simulate.suite import run as run_analysis
+from simulate.suite.executors import make_executor
+from simulate.suite.jobs import DEFAULT_BATCH_SIZE, FRAME, KEEP_CHOICES, TWIN, Storage, plan_suite
+from simulate.suite.store import RunFolder, collect, default_run_dir, remove_run_folder, run_suite, variant_output
 
 #: Width of the nonlinear header lines before they wrap.
 HEADER_WIDTH = 100
@@ -64,7 +77,20 @@ def _check_output(path: Path, origin: str) -> None:
 
 def twin_path(target: Path) -> Path:
     """Where the linear twin's results go: ``<stem>-linear<suffix>`` next to ``target``."""
-    return target.with_name(f"{target.stem}-linear{target.suffix}")
+    return variant_output(target, TWIN)
+
+
+def floor_list(ctx, param, value):
+    """Callback: ``"1,3,6"`` -> (1, 3, 6)."""
+    if value is None:
+        return None
+    try:
+        floors = tuple(int(part) for part in value.replace(" ", "").split(",") if part)
+    except ValueError:
+        raise click.BadParameter(f"expected floor numbers separated by commas such as 1,3,6, got {value!r}")
+    if not floors:
+        raise click.BadParameter("expected at least one floor number such as 1,3,6")
+    return floors
 
 
 @click.command("run", short_help="Run the records and harmonic loads of CONFIG.")
@@ -77,8 +103,37 @@ def twin_path(target: Path) -> Path:
               help="Integration method (overrides [analysis] method).")
 @click.option("--dt", type=float, default=None, callback=positive_float, metavar="SECONDS",
               help="Analysis time step, s (overrides [analysis] dt).")
+@click.option("--run-dir", type=click.Path(path_type=Path), default=None, metavar="DIR",
+              help="Run folder: manifest and one results file per finished batch of analyses. "
+                   "Default: OUT.run next to the output, removed once the results file is written; "
+                   "a folder given here is kept.")
+@click.option("--resume", is_flag=True,
+              help="Continue the run folder of an interrupted run: finished analyses are kept, the "
+                   "others run. The config and options must be those the folder was made with.")
+@click.option("--workers", type=click.IntRange(min=1), default=None, metavar="N",
+              help="Worker processes (default 1: analyses run in this process on all cores). "
+                   "With --cluster local: the number of Dask workers.")
+@click.option("--scheduler", default=None, metavar="tcp://HOST:PORT",
+              help="Run on the running Dask scheduler at this address (dask.distributed).")
+@click.option("--cluster", type=click.Choice(["local"]), default=None,
+              help="Start a Dask cluster on this machine (127.0.0.1) with --workers processes.")
+@click.option("--batch-size", type=click.IntRange(min=1), default=DEFAULT_BATCH_SIZE, show_default=True,
+              metavar="N", help="Analyses per batch (one call of the compiled kernels, one file in the "
+                                "run folder).")
+@click.option("--keep", type=click.Choice(KEEP_CHOICES), default="histories", show_default=True,
+              help="'envelopes': drop every variable with a time dimension from the results.")
+@click.option("--floors", callback=floor_list, default=None, metavar="1,3,6",
+              help="Keep the histories of these floors (and storeys) only, along the dimensions "
+                   "history_floor and history_storey. Envelopes keep every floor and storey.")
+@click.option("--decimate", type=click.IntRange(min=1), default=1, metavar="K",
+              help="Keep every K-th time step of the histories. Envelopes, residual drifts and "
+                   "statuses are always computed from the full-rate histories.")
+@click.option("--quiet", is_flag=True,
+              help="No progress bar or progress lines on stderr; one line per failed analysis only.")
 @debug_option
-def run_command(config: Path, output: Path | None, method: str | None, dt: float | None):
+def run_command(config: Path, output: Path | None, method: str | None, dt: float | None,
+                run_dir: Path | None, resume: bool, workers: int | None, scheduler: str | None,
+                cluster: str | None, batch_size: int, keep: str, floors, decimate: int, quiet: bool):
     """Run the records and harmonic loads of CONFIG through its building.
 
     Writes the full response histories and envelopes to a NetCDF file and
@@ -86,6 +141,11 @@ def run_command(config: Path, output: Path | None, method: str | None, dt: float
     yielding storeys or P-Delta it also prints each record's status (ok,
     not-converged, collapsed), storey ductility and residual drift, and, with
     [analysis] linear_twin = true, a comparison with the linear twin.
+
+    Each record runs once per scale factor of [analysis] scale. A record file
+    that cannot be read, an analysis that does not converge and one that
+    collapses are results (status and reason), not errors: the suite goes on,
+    stderr gets one line per failure and the exit status is 0.
     """
     cfg = load_config(config)
     if output is not None:
@@ -99,31 +159,76 @@ def run_command(config: Path, output: Path | None, method: str | None, dt: float
     if twin_target is not None:
         _check_output(twin_target, f"{origin} (linear twin)")
 
-    loads = cfg.excitations()
-    kwargs = cfg.run_kwargs(method=method, dt=dt)
-    ds = _analyse(cfg, cfg.frame, loads, kwargs, method, dt)
-    twin = None
-    if twin_target is not None:
-        attrs = dict(kwargs["attrs"], linear_twin_of=cfg.frame.name, nonlinear_results_file=target.name)
-        twin = _analyse(cfg, linear_twin(cfg.frame), loads, dict(kwargs, attrs=attrs), method, dt)
-        ds.attrs["linear_twin_results_file"] = twin_target.name
-    written = write_dataset(ds, target)
-    twin_written = write_dataset(twin, twin_target) if twin is not None else None
-    print_report(cfg, ds, written, method_from_option=method is not None, loads=loads,
-                 twin=twin, twin_written=twin_written)
-
-
-def _analyse(cfg, frame, loads, kwargs, method, dt):
-    """``simulate.run`` with user mistakes reported against the config or the options."""
+    storage = Storage(keep=keep, floors=floors, decimate=decimate)
+    storage.check(cfg.frame.n_storeys, names=("--keep", "--floors", "--decimate"))
+    suite = _plan(cfg, method, dt, storage, batch_size)
+    kept = run_dir is not None
+    folder = RunFolder.prepare(run_dir if kept else default_run_dir(target), suite, resume)
+    if folder.exists and not resume:
+        click.echo(f"swaysim: continuing the run in {folder.path} (same config, options and records)", err=True)
+    with make_executor(workers, scheduler, cluster) as executor:
+        # run_analysis is looked up here, at call time, so the analysis function can be swapped
+        run_suite(suite, folder.path, folder=folder, executor=executor, quiet=quiet, analyse=run_analysis)
+    written = collect(folder.path, target)
+    ds = _open_written(written[FRAME])
+    twin = _open_written(written[TWIN]) if TWIN in written else None
     try:
-        return run_analysis(frame, loads, **kwargs)
-    except ConfigError:
+        print_report(cfg, ds, written[FRAME], method_from_option=method is not None,
+                     loads=suite.loads_in_order(FRAME), twin=twin, twin_written=written.get(TWIN),
+                     run_dir=folder.path if kept else None)
+    finally:
+        ds.close()
+        if twin is not None:
+            twin.close()
+    if not kept:
+        remove_run_folder(folder)
+
+
+def _plan(cfg, method, dt, storage, batch_size):
+    """The suite's jobs, with mistakes that would fail every analysis named against the config or options."""
+    try:
+        return plan_suite(cfg, method=method, dt=dt, storage=storage, batch_size=batch_size)
+    except (ConfigError, RecordError):
         raise
     except InputError as exc:
         overrides = [f"--{name} {value}" for name, value in (("method", method), ("dt", dt))
                      if value is not None]
         where = f"{cfg.path} with {' '.join(overrides)}" if overrides else f"{cfg.path}: [analysis]"
         raise InputError(f"{where}: {exc}") from exc
+
+
+def _open_written(path: Path) -> xr.Dataset:
+    """A results file opened lazily (variables are read when used), text as Python str."""
+    ds = xr.open_dataset(path, engine="netcdf4")
+    for name in ("record", "status", "record_source", "excitation"):
+        if name in ds.variables and ds[name].dtype.kind in "SU":
+            ds[name] = ds[name].astype(object)
+    return ds
+
+
+def _suite_lines(ds, twin, run_dir: Path | None, written: Path) -> None:
+    """Failures over the suite and the kept run folder, after the report's tables."""
+    echo = click.echo
+    for data, what in ((ds, "analyses"), (twin, "linear twin analyses")):
+        if data is None:
+            continue
+        status = [str(s) for s in data["status"].values]
+        bad = [s for s in status if s != "ok"]
+        if bad:
+            echo()
+            counts = {}
+            for s in bad:
+                key = "failed" if s.startswith("failed") else s
+                counts[key] = counts.get(key, 0) + 1
+            order = ["not-converged", "collapsed", "failed"]
+            listed = ", ".join(f"{counts[key]} {key}" for key in sorted(
+                counts, key=lambda k: order.index(k) if k in order else len(order)))
+            echo(wrap(f"{len(bad)} of {len(status)} {what} did not finish ({listed}); stderr has one "
+                      "'swaysim: failure' line for each and the results file their reasons."))
+    if run_dir is not None:
+        echo()
+        echo(wrap(f"run folder {run_dir} kept: swaysim collect {run_dir} -o {written} writes the "
+                  "results again."))
 
 
 # ------------------------------------------------------------------ header
@@ -210,8 +315,12 @@ def _solver_text(ds) -> str:
 
 # ------------------------------------------------------------------ report
 def print_report(cfg, ds, written: Path, *, method_from_option: bool = False, loads=None,
-                 twin=None, twin_written: Path | None = None) -> None:
-    """The header, per-excitation and per-storey tables, peaks, comparison, files and caution."""
+                 twin=None, twin_written: Path | None = None, run_dir: Path | None = None) -> None:
+    """The header, per-excitation and per-storey tables, peaks, comparison, files and caution.
+
+    ``loads`` are the excitations in the order of the dataset's records (None for a
+    record file that could not be read); ``run_dir`` a run folder that was kept.
+    """
     echo = click.echo
     frame = cfg.frame
     nonlinear = not frame.is_linear
@@ -224,7 +333,9 @@ def print_report(cfg, ds, written: Path, *, method_from_option: bool = False, lo
     counts = f"{n_rec} record file{'s' if n_rec != 1 else ''}"
     if n_harm:
         counts += f" + {n_harm} harmonic load{'s' if n_harm != 1 else ''}"
-    if cfg.analysis.scale != 1.0:
+    if len(cfg.analysis.scales) > 1:
+        counts += "; each record at scale factors " + ", ".join(f"{s:g}" for s in cfg.analysis.scales)
+    elif cfg.analysis.scale != 1.0:
         counts += f"; records scaled by {cfg.analysis.scale:g}"
     if cfg.analysis.tail:
         counts += f"; {cfg.analysis.tail:g} s of free vibration after each"
@@ -266,9 +377,10 @@ def print_report(cfg, ds, written: Path, *, method_from_option: bool = False, lo
     if nonlinear:
         _nonlinear_tables(cfg, ds, loads)
     else:
-        _linear_tables(cfg, ds)
+        _linear_tables(cfg, ds, loads)
     if twin is not None:
         _twin_comparison(ds, twin)
+    _suite_lines(ds, twin, run_dir, written)
     echo()
     echo(f"results written to {written}")
     if twin_written is not None:
@@ -280,18 +392,22 @@ def print_report(cfg, ds, written: Path, *, method_from_option: bool = False, lo
     echo(caution_text())
 
 
-def _linear_tables(cfg, ds) -> None:
+def _linear_tables(cfg, ds, loads=None) -> None:
     """Per-excitation and storey tables of a linear frame (every excitation counts)."""
     echo = click.echo
     frame = cfg.frame
     n = frame.n_storeys
     g = STANDARD_GRAVITY
     drift = ds["peak_drift_ratio"].transpose("record", "storey").values
-    ground = ds["ground_acceleration"].values
+    ground = _ground(ds)
     kinds = ds["excitation"].values
+    status = np.array([str(s) for s in ds["status"].values])
+    ok = status == "ok"
     rows = []
     for r, label in enumerate(ds["record"].values):
-        pga = np.nanmax(np.abs(ground[r])) / g if kinds[r] == "base-acceleration" else np.nan
+        if not ok[r]:
+            continue
+        pga = _pga(ds, r, ground, loads) if kinds[r] == "base-acceleration" else np.nan
         worst = int(np.argmax(drift[r]))
         rows.append([
             str(label), sig(pga), f"{(int(ds['n_steps'].values[r]) - 1) * ds.attrs['analysis_dt']:.2f}",
@@ -307,9 +423,15 @@ def _linear_tables(cfg, ds) -> None:
     echo(wrap("PGA: peak ground acceleration as applied (after scaling), '-' for floor forces; "
               "length includes the free-vibration tail."))
 
-    nrec = ds.sizes["record"]
-    pfa = ds["peak_floor_acceleration"].transpose("record", "floor").values / g
-    shear = ds["peak_storey_shear"].transpose("record", "storey").values / 1000.0
+    nrec = int(ok.sum())
+    if nrec == 0:
+        echo()
+        echo("Storey envelopes: none, no excitation could be analysed.")
+        _failed_lines(ds, ok)
+        return
+    drift = drift[ok]
+    pfa = ds["peak_floor_acceleration"].transpose("record", "floor").values[ok] / g
+    shear = ds["peak_storey_shear"].transpose("record", "storey").values[ok] / 1000.0
     rows = [[str(i + 1), percent(drift[:, i].max()), percent(drift[:, i].mean()),
              sig(pfa[:, i].max()), sig(pfa[:, i].mean()),
              sig(shear[:, i].max()), sig(shear[:, i].mean())] for i in reversed(range(n))]
@@ -323,7 +445,34 @@ def _linear_tables(cfg, ds) -> None:
     ))
     echo(wrap("Storey i joins floor i-1 and floor i; its floor acceleration is the absolute "
               "acceleration of floor i, the floor above it."))
-    _peak_lines(frame, ds["peak_base_shear"].values, ds["peak_roof_displacement"].values)
+    _failed_lines(ds, ok)
+    _peak_lines(frame, ds["peak_base_shear"].values[ok], ds["peak_roof_displacement"].values[ok])
+
+
+def _failed_lines(ds, ok) -> None:
+    """The excitations that could not be analysed, with their reasons."""
+    failed = [f"{ds['record'].values[r]} ({str(ds['status'].values[r]).partition(':')[2].strip()})"
+              for r in range(len(ok)) if not ok[r]]
+    if failed:
+        echo = click.echo
+        echo(wrap("Failed, left out of the tables: " + "; ".join(failed) + "."))
+
+
+def _ground(ds):
+    """The applied ground accelerations (record, time), or None when they were not kept at full rate."""
+    if "ground_acceleration" not in ds or "history_decimation" in ds.attrs:
+        return None
+    return ds["ground_acceleration"].transpose("record", "time").values
+
+
+def _pga(ds, r: int, ground, loads) -> float:
+    """Peak ground acceleration of record ``r`` in g: from the stored motion, else from the record."""
+    if ground is not None:
+        return np.nanmax(np.abs(ground[r])) / STANDARD_GRAVITY
+    if loads is not None and loads[r] is not None:
+        scale = abs(float(ds["scale_factor"].values[r]))
+        return float(np.max(np.abs(loads[r].to_si()))) * scale / STANDARD_GRAVITY
+    return np.nan
 
 
 def _peak_lines(frame, base_shear, roof, blank: bool = True) -> None:
@@ -349,7 +498,9 @@ def _stop_reason(ds, r: int) -> str:
     dt = float(ds.attrs["analysis_dt"])
     last = int(ds["n_steps"].values[r]) - 1
     if status == "collapsed":
-        drift = ds["drift_ratio"].transpose("record", "time", "storey").values[r, last]
+        # the first step beyond the limit is the last one analysed: there every storey's peak is
+        # reached or lower, so the largest peak drift ratio is the one that passed the limit
+        drift = ds["peak_drift_ratio"].transpose("record", "storey").values[r]
         storey = int(np.nanargmax(np.abs(drift))) + 1
         return (f"collapsed at {last * dt:.2f} s: storey {storey} drift ratio "
                 f"{percent(abs(drift[storey - 1]))} % passed the {percent(ds.attrs['collapse_drift'])} % limit")
@@ -373,9 +524,8 @@ def _nonlinear_tables(cfg, ds, loads) -> None:
     status = np.array([str(s) for s in ds["status"].values])
     ok = status == "ok"
     drift = ds["peak_drift_ratio"].transpose("record", "storey").values
-    ground = ds["ground_acceleration"].values
+    ground = _ground(ds)
     kinds = ds["excitation"].values
-    scale = ds["scale_factor"].values
     energy_error = ds["energy_balance_error"].values
     ductility = (ds["ductility"].transpose("record", "storey").values if "ductility" in ds
                  else np.full(drift.shape, np.nan))
@@ -385,9 +535,13 @@ def _nonlinear_tables(cfg, ds, loads) -> None:
             pga = np.nan
         elif not ok[r] and loads is not None:
             # the stored ground motion ends where the analysis stopped; the record's peak may come later
-            pga = float(np.max(np.abs(loads[r].to_si()))) * abs(float(scale[r])) / g
+            pga = _pga(ds, r, None, loads)
         else:
-            pga = np.nanmax(np.abs(ground[r])) / g
+            pga = _pga(ds, r, ground, loads)
+        if not np.isfinite(drift[r]).any():
+            # the record could not be read: nothing was analysed
+            rows.append([label, sig(pga), "-", "-", "-", "-", "-", "-", status[r].partition(":")[0]])
+            continue
         worst = int(np.nanargmax(drift[r]))
         mu = np.nanmax(ductility[r]) if np.isfinite(ductility[r]).any() else np.nan
         rows.append([
