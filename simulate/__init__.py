@@ -35,7 +35,7 @@ from simulate.model import (
 from simulate.analysis import PATTERNS, load_pattern, pushover
 from simulate.results import compare, envelopes, read_dataset, suite_statistics, write_dataset
 from simulate.settings import CAUTION, STANDARD_GRAVITY
-from simulate.suite import run
+from simulate.suite import open_results, run, run_suite
 
 __all__ = [
     "__version__", "CAUTION", "STANDARD_GRAVITY", "ConfigError", "InputError", "RecordError",
@@ -49,7 +49,8 @@ __all__ = [
     "TARGETS", "ASCE7Spectrum", "EC8Spectrum", "FileSpectrum", "ScalingReport",
     "kanai_tajimi_record", "make_target", "scale_records", "scale_to_sa", "scale_to_spectrum",
     "spectrum_compatible", "stationary_kanai_tajimi",
-    "PATTERNS", "load_pattern", "pushover", "compare", "suite_statistics",
+    "PATTERNS", "load_pattern", "pushover", "compare", "suite_statistics", "open_results",
+    "run_suite",
 ]
 
 

@@ -342,7 +342,8 @@ class Config:
     analysis : Analysis
     record_files : tuple of Path
         Ground-motion record files (globs expanded, sorted per pattern).
-    record_units : str
+    record_units : str or None
+        Units of the record files; None lets each file's own header decide (else g).
     record_dt : float or None
     harmonics : tuple of Harmonic
     output : Path or None
@@ -361,7 +362,7 @@ class Config:
     frame: ShearFrame
     analysis: Analysis
     record_files: tuple[Path, ...] = ()
-    record_units: str = "g"
+    record_units: str | None = None
     record_dt: float | None = None
     harmonics: tuple[Harmonic, ...] = ()
     output: Path | None = None
@@ -856,15 +857,17 @@ def _scales(a: _Table) -> tuple[float, ...]:
     return tuple(values)
 
 
-def _records(source: str, doc: dict, folder: Path) -> tuple[tuple[Path, ...], str, float | None]:
+def _records(source: str, doc: dict, folder: Path) -> tuple[tuple[Path, ...], str | None, float | None]:
     r = _table(source, doc, "records", RECORDS_KEYS)
     if r is None:
-        return (), "g", None
-    units = r.string("units", "g")
-    try:
-        units = normalise_units(units, label="units")
-    except InputError as exc:
-        raise r.error(None, str(exc)) from None
+        return (), None, None
+    # without [records] units, each file's own "# units = ..." header decides (else g)
+    units = r.string("units", None)
+    if units is not None:
+        try:
+            units = normalise_units(units, label="units")
+        except InputError as exc:
+            raise r.error(None, str(exc)) from None
     dt = r.number("dt", positive=True)
     patterns = r.get("files")
     if patterns is None:

@@ -9,6 +9,7 @@ from __future__ import annotations
 import click
 
 from simulate._version import __version__
+from simulate.cli.collect import collect_command
 from simulate.cli.compare import compare_command
 from simulate.cli.modes import modes_command
 from simulate.cli.motions import motions_command
@@ -40,3 +41,4 @@ main.add_command(scale_command)
 main.add_command(pushover_command)
 main.add_command(compare_command)
 main.add_command(summary_command)
+main.add_command(collect_command)

@@ -4,13 +4,12 @@ from __future__ import annotations
 
 import io
 import math
-import os
-import tempfile
 from pathlib import Path
 
 import click
 import numpy as np
 
+from simulate import files
 from simulate.analysis.pushover import PATTERNS, pushover
 from simulate.cli.options import config_argument, debug_option
 from simulate.cli.tables import Column, caution_text, percent, render_table, sig, wrap
@@ -39,21 +38,8 @@ def check_output(path: Path) -> None:
 
 
 def write_text_atomic(text: str, path: Path) -> Path:
-    """Write ``text`` to ``path`` through a temporary file in the same folder and a rename."""
-    folder = path.parent if str(path.parent) else Path(".")
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".part", dir=folder)
-    try:
-        with os.fdopen(fd, "w", encoding="utf-8", newline="") as handle:
-            handle.write(text)
-        umask = os.umask(0)
-        os.umask(umask)
-        os.chmod(tmp, 0o666 & ~umask)
-        os.replace(tmp, path)
-    except BaseException:
-        if os.path.exists(tmp):
-            os.unlink(tmp)
-        raise
-    return path
+    """Write ``text`` to ``path`` durably and atomically (``simulate.files``)."""
+    return files.write_text_atomic(path, text)
 
 
 def write_output(ds, path: Path, csv_text) -> Path:

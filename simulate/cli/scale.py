@@ -10,12 +10,12 @@ from __future__ import annotations
 
 import math
 import os
-import tempfile
 from pathlib import Path
 
 import click
 import numpy as np
 
+from simulate.files import write_text_atomic
 from simulate.cli.options import debug_option
 from simulate.cli.tables import Column, render_table, sig, wrap
 from simulate.errors import InputError
@@ -158,21 +158,8 @@ def suite_text(files, names, factors, report, suite_path: Path, *, units=None, d
 
 
 def write_suite(text: str, path: Path) -> Path:
-    """Write ``text`` to ``path`` through a temporary file in the same folder and a rename."""
-    folder = path.parent if str(path.parent) else Path(".")
-    handle, temporary = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=folder)
-    try:
-        with os.fdopen(handle, "w", encoding="utf-8", newline="\n") as stream:
-            stream.write(text)
-        umask = os.umask(0)
-        os.umask(umask)
-        os.chmod(temporary, 0o666 & ~umask)
-        os.replace(temporary, path)
-    except BaseException:
-        if os.path.exists(temporary):
-            os.unlink(temporary)
-        raise
-    return path
+    """Write the suite file ``text`` to ``path`` durably and atomically (``simulate.files``)."""
+    return write_text_atomic(path, text)
 
 
 def _shown_periods(report) -> list[int]:

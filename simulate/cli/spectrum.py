@@ -3,14 +3,13 @@
 from __future__ import annotations
 
 import csv
-import os
-import tempfile
 from pathlib import Path
 
 import click
 import numpy as np
 import xarray as xr
 
+from simulate.files import write_atomic
 from simulate.cli.motions import (
     damping_option, damping_text, dt_option, files_argument, option_damping, read_records, units_option,
 )
@@ -121,10 +120,9 @@ def write_csv(ds: xr.Dataset, path: Path) -> Path:
                        f"sd_inelastic_mu{tag}_m"]
             columns += [ds[name].transpose("record", "ductility", "period").values[:, q, :]
                         for name in ("strength_reduction", "yield_strength_coefficient", "sd_inelastic")]
-    folder = path.parent if str(path.parent) else Path(".")
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".part", dir=folder)
-    try:
-        with os.fdopen(fd, "w", newline="", encoding="utf-8") as handle:
+
+    def write(tmp):
+        with open(tmp, "w", newline="", encoding="utf-8") as handle:
             handle.write(f"# {ds.attrs.get('title', 'swaysim spectra')}; damping ratio "
                          f"{float(ds.attrs['damping']):g}")
             if "hardening" in ds.attrs:
@@ -138,15 +136,8 @@ def write_csv(ds: xr.Dataset, path: Path) -> Path:
                 for p, period in enumerate(periods):
                     writer.writerow([label, repr(float(period))]
                                     + [repr(float(col[r, p])) for col in columns])
-        umask = os.umask(0)
-        os.umask(umask)
-        os.chmod(tmp, 0o666 & ~umask)
-        os.replace(tmp, path)
-    except BaseException:
-        if os.path.exists(tmp):
-            os.unlink(tmp)
-        raise
-    return path
+
+    return write_atomic(path, write)
 
 
 def _table(title: str, ds: xr.Dataset, values: np.ndarray, shown: list[int], fmt=sig) -> str:

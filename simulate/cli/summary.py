@@ -14,14 +14,13 @@ import io
 import itertools
 import json
 import math
-import os
 import re
-import tempfile
 from pathlib import Path
 
 import click
 import numpy as np
 
+from simulate.files import write_text_atomic
 from simulate.cli.options import debug_option
 from simulate.cli.tables import Column, caution_text, percent, plural, render_table, sig, wrap
 from simulate.errors import InputError
@@ -363,22 +362,8 @@ def check_output(path: Path) -> None:
 
 
 def write_text(text: str, path: Path) -> Path:
-    """Write ``text`` through a temporary file in the same folder and ``os.replace``."""
-    folder = path.parent if str(path.parent) else Path(".")
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".part", dir=folder)
-    try:
-        with os.fdopen(fd, "w", encoding="utf-8", newline="") as handle:
-            handle.write(text)
-        # mkstemp creates the file private (0600); give it the usual permissions
-        umask = os.umask(0)
-        os.umask(umask)
-        os.chmod(tmp, 0o666 & ~umask)
-        os.replace(tmp, path)
-    except BaseException:
-        if os.path.exists(tmp):
-            os.unlink(tmp)
-        raise
-    return path
+    """Write ``text`` to ``path`` durably and atomically (``simulate.files``)."""
+    return write_text_atomic(path, text)
 
 
 @click.command("summary", short_help="Suite statistics of a results file per storey and floor.")

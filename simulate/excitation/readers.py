@@ -85,14 +85,13 @@ from __future__ import annotations
 import difflib
 import json
 import math
-import os
 import re
-import tempfile
 from numbers import Integral
 from pathlib import Path
 
 import numpy as np
 
+from simulate.files import write_atomic
 from simulate.errors import RecordError, where
 from simulate.excitation.record import Record, normalise_units
 
@@ -797,19 +796,8 @@ def write_record(record: Record, path) -> Path:
     folder = path.parent if str(path.parent) else Path(".")
     if not folder.is_dir():
         raise RecordError(f"{label}: folder {folder} does not exist")
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".part", dir=folder)
-    os.close(fd)
-    try:
-        ds.to_netcdf(tmp, engine="netcdf4", format="NETCDF4", encoding=encoding)
-        umask = os.umask(0)
-        os.umask(umask)
-        os.chmod(tmp, 0o666 & ~umask)
-        os.replace(tmp, path)
-    except BaseException:
-        if os.path.exists(tmp):
-            os.unlink(tmp)
-        raise
-    return path
+    return write_atomic(path, lambda tmp: ds.to_netcdf(tmp, engine="netcdf4", format="NETCDF4",
+                                                       encoding=encoding))
 
 
 # ------------------------------------------------------------------ miniSEED, SAC

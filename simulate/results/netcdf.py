@@ -6,13 +6,11 @@ can be added without touching the callers.
 
 from __future__ import annotations
 
-import os
-import tempfile
 from pathlib import Path
 
-import numpy as np
 import xarray as xr
 
+from simulate.files import write_atomic
 from simulate.errors import InputError
 
 #: zlib level for NetCDF variables: a good size/speed balance for float histories.
@@ -44,7 +42,7 @@ READERS = {".nc": _read_netcdf}
 
 
 def write_dataset(ds: xr.Dataset, path) -> Path:
-    """Write ``ds`` to ``path`` atomically: a temporary file in the same folder, then a rename.
+    """Write ``ds`` to ``path`` durably and atomically (``simulate.files.write_atomic``).
 
     A crash or a full disk leaves either the old file or none, never half a file.
     """
@@ -53,23 +51,7 @@ def write_dataset(ds: xr.Dataset, path) -> Path:
         writer = WRITERS[path.suffix.lower()]
     except KeyError:
         raise InputError(f"{path}: unknown results format {path.suffix!r}; use one of {', '.join(WRITERS)}") from None
-    folder = path.parent if str(path.parent) else Path(".")
-    if not folder.is_dir():
-        raise InputError(f"{path}: folder {folder} does not exist")
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".part", dir=folder)
-    os.close(fd)
-    try:
-        writer(ds, Path(tmp))
-        # mkstemp creates the file private (0600); give it the usual permissions
-        umask = os.umask(0)
-        os.umask(umask)
-        os.chmod(tmp, 0o666 & ~umask)
-        os.replace(tmp, path)
-    except BaseException:
-        if os.path.exists(tmp):
-            os.unlink(tmp)
-        raise
-    return path
+    return write_atomic(path, lambda tmp: writer(ds, tmp))
 
 
 def read_dataset(path) -> xr.Dataset:
@@ -85,7 +67,8 @@ def read_dataset(path) -> xr.Dataset:
         ds = reader(path)
     except (OSError, ValueError) as exc:
         raise InputError(f"{path}: cannot read results ({exc})") from None
-    for name in ("record", "status", "record_source", "excitation"):
-        if name in ds.variables and ds[name].dtype.kind in "SU":
+    # text variables come back as Python strings, as run() made them
+    for name, var in ds.variables.items():
+        if var.dtype.kind in "SU":
             ds[name] = ds[name].astype(object)
     return ds

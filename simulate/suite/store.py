@@ -31,15 +31,14 @@ from __future__ import annotations
 
 import functools
 import json
-import os
 import shutil
-import tempfile
 from datetime import datetime, timezone
 from pathlib import Path
 
 import numpy as np
 import xarray as xr
 
+from simulate.files import fsync_folder, write_atomic
 from simulate._version import __version__
 from simulate.errors import InputError
 from simulate.results.netcdf import WRITERS
@@ -74,41 +73,6 @@ def variant_output(output, variant: str) -> Path:
 
 
 # ------------------------------------------------------------------ durable writes
-def _fsync_folder(folder: Path) -> None:
-    try:
-        fd = os.open(folder, os.O_RDONLY)
-    except OSError:
-        return
-    try:
-        os.fsync(fd)
-    except OSError:
-        pass
-    finally:
-        os.close(fd)
-
-
-def _durable(path: Path, write) -> Path:
-    """Call ``write(tmp)`` on a temporary file next to ``path``, fsync it, rename it, fsync the folder."""
-    path = Path(path)
-    folder = path.parent if str(path.parent) else Path(".")
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".part", dir=folder)
-    os.close(fd)
-    try:
-        write(Path(tmp))
-        with open(tmp, "rb+") as handle:
-            os.fsync(handle.fileno())
-        umask = os.umask(0)
-        os.umask(umask)
-        os.chmod(tmp, 0o666 & ~umask)
-        os.replace(tmp, path)
-    except BaseException:
-        if os.path.exists(tmp):
-            os.unlink(tmp)
-        raise
-    _fsync_folder(folder)
-    return path
-
-
 def write_results(ds: xr.Dataset, path) -> Path:
     """Write a results dataset durably: temporary file, fsync, atomic rename, fsync of the folder."""
     path = Path(path)
@@ -122,14 +86,14 @@ def write_results(ds: xr.Dataset, path) -> Path:
     try:
         import dask
     except ImportError:
-        return _durable(path, lambda tmp: writer(ds, tmp))
+        return write_atomic(path, lambda tmp: writer(ds, tmp))
     # histories may be dask arrays reading the batch files: compute them here, in order
     with dask.config.set(scheduler="synchronous"):
-        return _durable(path, lambda tmp: writer(ds, tmp))
+        return write_atomic(path, lambda tmp: writer(ds, tmp))
 
 
 def _write_json(path: Path, data: dict) -> None:
-    _durable(path, lambda tmp: tmp.write_text(json.dumps(data, indent=1) + "\n", encoding="utf-8"))
+    write_atomic(path, lambda tmp: tmp.write_text(json.dumps(data, indent=1) + "\n", encoding="utf-8"))
 
 
 def _plain(value):
@@ -241,7 +205,7 @@ class RunFolder:
             return
         self.path.mkdir(exist_ok=True)
         self.batch_folder.mkdir(exist_ok=True)
-        _fsync_folder(self.path.parent)
+        fsync_folder(self.path.parent)
         _write_json(self.path / MANIFEST, self.manifest)
         self._exists = True
 
@@ -274,7 +238,7 @@ class RunFolder:
 
     def save(self, batch_id: str, ds: xr.Dataset) -> Path:
         """Write one finished batch durably; from then on its jobs count as done."""
-        return _durable(self.batch_path(batch_id), lambda tmp: WRITERS[".nc"](ds, tmp))
+        return write_atomic(self.batch_path(batch_id), lambda tmp: WRITERS[".nc"](ds, tmp))
 
 
 def _manifest(suite) -> dict:
