@@ -4,13 +4,27 @@
 expands a config into jobs, one per (variant, record, scale factor), runs them in
 batches on an executor (in-process, process pool, Dask) with a run folder that
 survives a crash (``run_suite``), and combines the batches (``open_results``,
-``collect``).
+``collect``). The suite machinery imports on first use.
 """
 
-from simulate.suite.run import run
-from simulate.suite.jobs import Storage, Suite, plan_suite, run_batch
-from simulate.suite.executors import DaskExecutor, InProcess, ProcessPool, make_executor
-from simulate.suite.store import RunFolder, collect, open_results, run_suite
+from importlib import import_module
 
-__all__ = ["run", "Storage", "Suite", "plan_suite", "run_batch", "InProcess", "ProcessPool", "DaskExecutor",
-           "make_executor", "RunFolder", "run_suite", "open_results", "collect"]
+from simulate.suite.run import run
+
+_LAZY = {
+    **dict.fromkeys(("Storage", "Suite", "plan_suite", "run_batch"), "simulate.suite.jobs"),
+    **dict.fromkeys(("DaskExecutor", "InProcess", "ProcessPool", "make_executor"), "simulate.suite.executors"),
+    **dict.fromkeys(("RunFolder", "collect", "open_results", "run_suite"), "simulate.suite.store"),
+}
+
+__all__ = ["run", *_LAZY]
+
+
+def __getattr__(name):
+    try:
+        module = _LAZY[name]
+    except KeyError:
+        raise AttributeError(f"module 'simulate.suite' has no attribute {name!r}") from None
+    value = getattr(import_module(module), name)
+    globals()[name] = value
+    return value
