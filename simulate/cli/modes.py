@@ -36,6 +36,9 @@ def modes_command(config: Path, show_all: bool):
     echo(f"building   {frame.name}, {n} storey{'s' if n != 1 else ''}, {sig(frame.total_height)} m tall, "
          f"total mass {sig(frame.total_mass / 1000.0, 4)} t")
     echo(f"damping    {frame.damping.describe()}")
+    if not frame.is_linear:
+        echo(wrap("The frame has yielding storeys or P-Delta: these are the modes of its elastic "
+                  "frame (initial stiffness, no geometric stiffness); they change once storeys yield."))
 
     rows = [[str(m + 1), sig(ds["period"].values[m], 4), sig(ds["frequency"].values[m], 4),
              percent(ds["damping_ratio"].values[m]), sig(ds["participation_factor"].values[m], 4),
