@@ -1,8 +1,8 @@
 """Newmark-beta time stepping for linear shear frames (numba kernels).
 
 Kernels take contiguous float64 arrays and write into output arrays they are
-given; they know nothing of configs, records or xarray. The wrappers in
-``simulate.kernels.linear`` prepare the arrays.
+given; they know nothing of configs, records or xarray. The methods in
+``simulate.kernels.methods`` prepare the arrays.
 
 The scheme is Newmark's family (gamma, beta) in total (not incremental) form:
 
@@ -106,18 +106,39 @@ def _newmark_tridiagonal(m, k, h, kd, ko, cd, co, ag, force, has_force, nsteps, 
             p0 += force[0, j]
         a[j] = p0 / m[j]
     _write_row(0, u, v, a, ag[0], h, k, u_out, v_out, acc_out, drift_out, shear_out)
+    # w = q1 u + q2 v + q3 a is the damping part of the right-hand side; the back
+    # substitution of each step leaves it ready for the next one
+    for j in range(n):
+        w[j] = q1 * u[j] + q2 * v[j] + q3 * a[j]
+    # the constant has_force at each call site lets the compiler drop the floor-force
+    # branch from the step loop when there are no floor forces
+    if has_force:
+        _tridiagonal_steps(m, k, h, cd, co, off, inv_den, cp, ag, force, True, nsteps,
+                           c1, c2, c3, q1, q2, q3, g1, g2, g3, u, v, a, w, y,
+                           u_out, v_out, acc_out, drift_out, shear_out)
+    else:
+        _tridiagonal_steps(m, k, h, cd, co, off, inv_den, cp, ag, force, False, nsteps,
+                           c1, c2, c3, q1, q2, q3, g1, g2, g3, u, v, a, w, y,
+                           u_out, v_out, acc_out, drift_out, shear_out)
+    _fill_nan(nsteps, u_out, v_out, acc_out, drift_out, shear_out)
 
+
+@njit(**JIT)
+def _tridiagonal_steps(m, k, h, cd, co, off, inv_den, cp, ag, force, has_force, nsteps,
+                       c1, c2, c3, q1, q2, q3, g1, g2, g3, u, v, a, w, y,
+                       u_out, v_out, acc_out, drift_out, shear_out):
+    """Steps 1..nsteps-1 of ``_newmark_tridiagonal``: state u, v, a, w updated in place, output rows written."""
+    n = m.shape[0]
+    last = n - 1
     for i in range(1, nsteps):
         agi = ag[i]
-        for j in range(n):
-            w[j] = q1 * u[j] + q2 * v[j] + q3 * a[j]
         # forward sweep of the Thomas algorithm on the right-hand side
         prev = 0.0
         for j in range(n):
             r = m[j] * (c1 * u[j] + c2 * v[j] + c3 * a[j] - agi) + cd[j] * w[j]
             if j > 0:
                 r += co[j - 1] * w[j - 1]
-            if j < n - 1:
+            if j < last:
                 r += co[j] * w[j + 1]
             if has_force:
                 r += force[i, j]
@@ -125,18 +146,37 @@ def _newmark_tridiagonal(m, k, h, kd, ko, cd, co, ag, force, has_force, nsteps, 
                 r -= off[j - 1] * prev
             prev = r * inv_den[j]
             y[j] = prev
-        # back substitution, then the Newmark updates
-        unext = y[n - 1]
-        for j in range(n - 1, -1, -1):
-            if j < n - 1:
+        # back substitution, the Newmark updates and the output row in one pass
+        # from the roof down; the drift of storey j+1 is known once u_j is
+        uo = u_out[i]
+        vo = v_out[i]
+        ao = acc_out[i]
+        do = drift_out[i]
+        so = shear_out[i]
+        unext = y[last]
+        above = 0.0
+        for j in range(last, -1, -1):
+            if j < last:
                 unext = y[j] - cp[j] * unext
+                d = above - unext
+                do[j + 1] = d / h[j + 1]
+                so[j + 1] = k[j + 1] * d
+            vj = v[j]
+            aj = a[j]
             du = unext - u[j]
-            anew = c1 * du - c2 * v[j] - c3 * a[j]
-            v[j] = g1 * du + g2 * v[j] + g3 * a[j]
-            a[j] = anew
+            anew = c1 * du - c2 * vj - c3 * aj
+            vnew = g1 * du + g2 * vj + g3 * aj
             u[j] = unext
-        _write_row(i, u, v, a, agi, h, k, u_out, v_out, acc_out, drift_out, shear_out)
-    _fill_nan(nsteps, u_out, v_out, acc_out, drift_out, shear_out)
+            v[j] = vnew
+            a[j] = anew
+            w[j] = q1 * unext + q2 * vnew + q3 * anew
+            uo[j] = unext
+            vo[j] = vnew
+            ao[j] = anew + agi
+            above = unext
+        d = above - 0.0
+        do[0] = d / h[0]
+        so[0] = k[0] * d
 
 
 @njit(**JIT)
