@@ -242,6 +242,13 @@ class ShearFrame:
 
         return modes_dataset(self)
 
+    def modal_damping_ratios(self) -> np.ndarray:
+        """Damping ratio of each undamped mode, phi_n^T C phi_n / (2 w_n) with phi_n^T M phi_n = 1."""
+        omega, phi = self._undamped
+        C = self.damping_matrix()
+        with np.errstate(divide="ignore", invalid="ignore"):
+            return np.einsum("in,ij,jn->n", phi, C, phi) / (2.0 * omega)
+
     def periods(self) -> np.ndarray:
         """Undamped natural periods, s, longest first."""
         return 2.0 * np.pi / self._undamped[0]

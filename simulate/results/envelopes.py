@@ -5,14 +5,32 @@ from __future__ import annotations
 import numpy as np
 import xarray as xr
 
-from simulate.kernels.peaks import _peak_abs
+from simulate.kernels.peaks import _peak_abs_many
 from simulate.results.schema import ENVELOPES, variable
 
 
-def _peaks(values: np.ndarray) -> np.ndarray:
-    x = np.ascontiguousarray(values, dtype=np.float64)
-    out = np.empty((x.shape[0], x.shape[2]))
-    _peak_abs(x, out)
+def envelope_arrays(drift, shear, acc, disp, last) -> dict:
+    """Envelope arrays from (R, T, N) histories and each record's last valid step (R,)."""
+    arrays = [np.ascontiguousarray(x, dtype=np.float64) for x in (drift, shear, acc, disp)]
+    R, _, N = arrays[0].shape
+    peaks = [np.empty((R, N)) for _ in arrays]
+    _peak_abs_many(*arrays, *peaks)
+    peak_drift, peak_shear, peak_acc, peak_disp = peaks
+    return {
+        "peak_drift_ratio": peak_drift,
+        "residual_drift_ratio": arrays[0][np.arange(R), last, :],
+        "peak_floor_acceleration": peak_acc,
+        "peak_storey_shear": peak_shear,
+        "peak_base_shear": peak_shear[:, 0],
+        "peak_roof_displacement": peak_disp[:, -1],
+    }
+
+
+def envelope_variables(data: dict, yield_drift=None, height=None) -> dict:
+    """``xarray.Variable`` objects of the envelopes, with ductility when yield drifts are known."""
+    out = {name: variable(name, data[name]) for name in ENVELOPES}
+    if yield_drift is not None:
+        out["ductility"] = variable("ductility", data["peak_drift_ratio"] * height[None, :] / yield_drift[None, :])
     return out
 
 
@@ -42,20 +60,10 @@ def envelopes(ds: xr.Dataset) -> xr.Dataset:
     else:
         valid = np.isfinite(drift[:, :, 0])
         last = valid.shape[1] - 1 - np.argmax(valid[:, ::-1], axis=1)
-    peak_shear = _peaks(shear)
-    peak_disp = _peaks(disp)
-    data = {
-        "peak_drift_ratio": _peaks(drift),
-        "residual_drift_ratio": drift[np.arange(drift.shape[0]), last, :],
-        "peak_floor_acceleration": _peaks(acc),
-        "peak_storey_shear": peak_shear,
-        "peak_base_shear": peak_shear[:, 0],
-        "peak_roof_displacement": peak_disp[:, -1],
-    }
-    coords = {c: ds.coords[c] for c in ("record", "floor", "storey") if c in ds.coords}
-    out = xr.Dataset({name: variable(name, data[name]) for name in ENVELOPES}, coords=coords)
+    data = envelope_arrays(drift, shear, acc, disp, last)
+    yield_drift = height = None
     if "storey_yield_shear" in ds and "storey_stiffness" in ds:
-        dy = (ds["storey_yield_shear"] / ds["storey_stiffness"]).values
-        peak_d = data["peak_drift_ratio"] * ds["storey_height"].values[None, :]
-        out["ductility"] = variable("ductility", peak_d / dy[None, :])
-    return out
+        yield_drift = (ds["storey_yield_shear"] / ds["storey_stiffness"]).values
+        height = ds["storey_height"].values
+    coords = {c: ds.coords[c] for c in ("record", "floor", "storey") if c in ds.coords}
+    return xr.Dataset(envelope_variables(data, yield_drift, height), coords=coords)

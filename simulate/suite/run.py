@@ -8,7 +8,7 @@ import xarray as xr
 from simulate.errors import InputError
 from simulate.excitation import FloorForces, Record
 from simulate.kernels.methods import make_method
-from simulate.results.envelopes import envelopes
+from simulate.results.envelopes import envelope_arrays, envelope_variables
 from simulate.results.schema import ENERGIES, HISTORIES, STATUS, base_attributes, coordinates, variable
 from simulate.suite.plan import load_arrays, make_plan
 
@@ -100,7 +100,6 @@ def _nonlinear_variables(frame, plan, ag, extra) -> dict:
 
 
 def _dataset(frame, records, plan, integrator, ag, outputs, extra, attrs) -> xr.Dataset:
-    modes = frame.modes()
     n = frame.n_storeys
     per_record = {
         "status": np.array(["ok"] * len(records), dtype=object),
@@ -119,10 +118,18 @@ def _dataset(frame, records, plan, integrator, ag, outputs, extra, attrs) -> xr.
     data["floor_mass"] = variable("floor_mass", np.asarray(frame.mass))
     data["storey_height"] = variable("storey_height", np.asarray(frame.height))
     data["storey_stiffness"] = variable("storey_stiffness", np.asarray(frame.stiffness))
-    data["modal_period"] = variable("modal_period", modes["period"].values)
-    data["modal_damping_ratio"] = variable("modal_damping_ratio", modes["damping_ratio"].values)
+    data["modal_period"] = variable("modal_period", frame.periods())
+    data["modal_damping_ratio"] = variable("modal_damping_ratio", frame.modal_damping_ratios())
+    # envelopes straight from the kernels' arrays, before the Dataset is built
+    histories = dict(zip(HISTORIES, outputs))
+    last = (extra["info"][:, 1] if extra else plan.nsteps) - 1
+    peaks = envelope_arrays(histories["drift_ratio"], histories["storey_shear"],
+                            histories["absolute_acceleration"], histories["displacement"], last)
+    yield_drift = None
+    if "storey_yield_shear" in data:
+        yield_drift = data["storey_yield_shear"].values / frame.stiffness
+    data.update(envelope_variables(peaks, yield_drift, frame.height))
     ds = xr.Dataset(data, coords=coordinates(plan.labels, plan.time, n, n))
-    ds = ds.merge(envelopes(ds))
     ds.attrs.update(base_attributes())
     ds.attrs.update(
         frame=frame.name,
