@@ -6,13 +6,13 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from simulate.excitation.record import _check_dt, _check_samples, _copy_metadata, _label
+from simulate.excitation.record import Sampled, _check_dt, _check_samples, _copy_metadata, _label
 
 __all__ = ["FloorForces"]
 
 
 @dataclass(frozen=True, eq=False, repr=False)
-class FloorForces:
+class FloorForces(Sampled):
     """Uniformly sampled horizontal forces at floors 1..N.
 
     Parameters
@@ -63,12 +63,3 @@ class FloorForces:
         """Number of floor columns."""
         return int(self.force.shape[1])
 
-    @property
-    def duration(self) -> float:
-        """Time from the first to the last sample, ``(n_steps - 1) * dt``, s."""
-        return (self.n_steps - 1) * self.dt
-
-    @property
-    def time(self) -> np.ndarray:
-        """Sample times ``0, dt, 2 dt, ...``, s, shape (n_steps,)."""
-        return np.arange(self.n_steps, dtype=np.float64) * self.dt

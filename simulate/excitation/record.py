@@ -90,8 +90,22 @@ def _copy_metadata(metadata, label: str) -> dict:
     return dict(metadata)
 
 
+class Sampled:
+    """Time axis of a uniformly sampled excitation (needs ``n_steps`` and ``dt``)."""
+
+    @property
+    def duration(self) -> float:
+        """Time from the first to the last sample, ``(n_steps - 1) * dt``, s."""
+        return (self.n_steps - 1) * self.dt
+
+    @property
+    def time(self) -> np.ndarray:
+        """Sample times ``0, dt, 2 dt, ...``, s, shape (n_steps,)."""
+        return np.arange(self.n_steps, dtype=np.float64) * self.dt
+
+
 @dataclass(frozen=True, eq=False, repr=False)
-class Record:
+class Record(Sampled):
     """A uniformly sampled base (ground) acceleration history.
 
     Parameters
@@ -146,15 +160,6 @@ class Record:
         """Number of samples."""
         return int(self.acceleration.shape[0])
 
-    @property
-    def duration(self) -> float:
-        """Time from the first to the last sample, ``(n_steps - 1) * dt``, s."""
-        return (self.n_steps - 1) * self.dt
-
-    @property
-    def time(self) -> np.ndarray:
-        """Sample times ``0, dt, 2 dt, ...``, s, shape (n_steps,)."""
-        return np.arange(self.n_steps, dtype=np.float64) * self.dt
 
     @property
     def pga(self) -> float:
