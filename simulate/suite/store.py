@@ -41,7 +41,7 @@ import xarray as xr
 from simulate.files import fsync_folder, write_atomic
 from simulate._version import __version__
 from simulate.errors import InputError
-from simulate.results.netcdf import WRITERS
+from simulate.results.netcdf import write_uncompressed, WRITERS
 from simulate.suite.executors import InProcess
 from simulate.suite.jobs import FRAME, TWIN, Storage, run_batch
 from simulate.suite.progress import SuiteProgress
@@ -238,7 +238,8 @@ class RunFolder:
 
     def save(self, batch_id: str, ds: xr.Dataset) -> Path:
         """Write one finished batch durably; from then on its jobs count as done."""
-        return write_atomic(self.batch_path(batch_id), lambda tmp: WRITERS[".nc"](ds, tmp))
+        # batch files are working files: uncompressed, the combined results file is compressed
+        return write_atomic(self.batch_path(batch_id), lambda tmp: write_uncompressed(ds, tmp))
 
 
 def _manifest(suite) -> dict:
