@@ -16,13 +16,10 @@ This is a benchmark, never a test: it asserts nothing about time.
 from __future__ import annotations
 
 import argparse
-import contextlib
 import ctypes
 import datetime as _dt
 import json
 import os
-import platform
-import re
 import shutil
 import subprocess
 import sys
@@ -35,6 +32,7 @@ import numpy as np
 import scipy
 import scipy.signal
 
+from _report import machine
 import simulate as ss
 from simulate.kernels.methods import make_method
 from simulate.kernels.newmark import _newmark_tridiagonal, _newmark_tridiagonal_batch
@@ -323,18 +321,6 @@ def keep_best(best, new):
 
 
 # -------------------------------------------------------------------------- reporting
-def machine() -> str:
-    model = platform.processor() or "unknown CPU"
-    with contextlib.suppress(OSError, subprocess.SubprocessError):
-        out = subprocess.run(["lscpu"], capture_output=True, text=True).stdout
-        found = re.search(r"^Model name:\s*(.+)$", out, re.M)
-        if found:
-            model = found.group(1).strip()
-    return (f"{model}, {os.cpu_count()} logical CPUs; Python {platform.python_version()}, "
-            f"numba {numba.__version__} (threading layer {numba.threading_layer()}), "
-            f"numpy {np.__version__}, scipy {scipy.__version__}")
-
-
 def fmt(x, spec=".1f", suffix=""):
     return "—" if x is None else f"{x:{spec}}{suffix}"
 

@@ -16,14 +16,13 @@ from __future__ import annotations
 import argparse
 import os
 import platform
-import re
 import time
-from pathlib import Path
 
 import numpy as np
 import scipy.integrate
 import scipy.signal
 
+from _report import write_section
 import simulate as ss
 from simulate.kernels.methods import Newmark
 from simulate.kernels.nonlinear import ENERGY_COLUMNS, _newmark_nonlinear
@@ -230,14 +229,7 @@ def main():
     table = "\n".join(lines)
     print(table)
     if args.write:
-        path = Path(__file__).with_name("README.md")
-        text = path.read_text()
-        block = f"<!-- nonlinear table -->\n{table}\n<!-- end nonlinear table -->"
-        if "<!-- nonlinear table -->" in text:
-            text = re.sub(r"<!-- nonlinear table -->.*?<!-- end nonlinear table -->", block, text, flags=re.S)
-        else:
-            text += "\n## `bench_nonlinear.py`: yielding storeys\n\n" + block + "\n"
-        path.write_text(text)
+        write_section("nonlinear table", "`bench_nonlinear.py`: yielding storeys", table)
 
 
 if __name__ == "__main__":

@@ -17,13 +17,9 @@ This is a benchmark, never a test: it asserts nothing about time.
 from __future__ import annotations
 
 import argparse
-import contextlib
 import datetime as _dt
 import math
 import os
-import platform
-import re
-import subprocess
 import time
 
 import numba
@@ -31,6 +27,7 @@ import numpy as np
 import scipy
 import scipy.signal
 
+from _report import machine
 import simulate as ss
 from simulate.excitation.spectra import inelastic_spectrum, pack_records, response_spectrum
 from simulate.kernels.spectra import _elastic_spectra, substeps, tail_steps
@@ -73,18 +70,6 @@ def lsim_peak(ag: np.ndarray, T: float) -> float:
                                      [[1.0, 0.0]], [[0.0]])
     _, y, _ = scipy.signal.lsim(system, ag, np.arange(ag.size) * DT)
     return float(np.abs(y).max())
-
-
-def machine() -> str:
-    model = platform.processor() or "unknown CPU"
-    with contextlib.suppress(OSError, subprocess.SubprocessError):
-        out = subprocess.run(["lscpu"], capture_output=True, text=True).stdout
-        found = re.search(r"^Model name:\s*(.+)$", out, re.M)
-        if found:
-            model = found.group(1).strip()
-    return (f"{model}, {os.cpu_count()} logical CPUs; Python {platform.python_version()}, "
-            f"numba {numba.__version__} (threading layer {numba.threading_layer()}), "
-            f"numpy {np.__version__}, scipy {scipy.__version__}")
 
 
 def main(argv=None) -> int:

@@ -15,7 +15,6 @@ from __future__ import annotations
 import argparse
 import os
 import platform
-import re
 import resource
 import subprocess
 import sys
@@ -25,6 +24,7 @@ from pathlib import Path
 
 import numpy as np
 
+from _report import write_section
 import simulate as ss
 from simulate.excitation.synthetic import SaragoniHart
 
@@ -86,7 +86,7 @@ def main():
         tmp = Path(tmp)
         rec_dir = tmp / "records"
         rec_dir.mkdir()
-        paths = write_records(rec_dir, args.records, args.duration)
+        write_records(rec_dir, args.records, args.duration)
         config = tmp / "suite.toml"
         config.write_text(CONFIG.format(pattern=(rec_dir / "*.txt").as_posix()))
         cfg = ss.load_config(config)
@@ -143,14 +143,7 @@ def main():
     table = "\n".join(lines)
     print(table)
     if args.write:
-        path = Path(__file__).with_name("README.md")
-        text = path.read_text()
-        block = f"<!-- suite table -->\n{table}\n<!-- end suite table -->"
-        if "<!-- suite table -->" in text:
-            text = re.sub(r"<!-- suite table -->.*?<!-- end suite table -->", block, text, flags=re.S)
-        else:
-            text += "\n## `bench_suite.py`: an overnight suite through `swaysim run`\n\n" + block + "\n"
-        path.write_text(text)
+        write_section("suite table", "`bench_suite.py`: an overnight suite through `swaysim run`", table)
 
 
 if __name__ == "__main__":
