@@ -41,7 +41,7 @@ import xarray as xr
 from simulate.files import fsync_folder, write_atomic
 from simulate._version import __version__
 from simulate.errors import InputError
-from simulate.results.netcdf import write_uncompressed, WRITERS
+from simulate.results.netcdf import write_dataset, write_uncompressed
 from simulate.suite.executors import InProcess
 from simulate.suite.jobs import FRAME, TWIN, Storage, run_batch
 from simulate.suite.progress import SuiteProgress
@@ -74,22 +74,17 @@ def variant_output(output, variant: str) -> Path:
 
 # ------------------------------------------------------------------ durable writes
 def write_results(ds: xr.Dataset, path) -> Path:
-    """Write a results dataset durably: temporary file, fsync, atomic rename, fsync of the folder."""
-    path = Path(path)
-    try:
-        writer = WRITERS[path.suffix.lower()]
-    except KeyError:
-        raise InputError(f"{path}: unknown results format {path.suffix!r}; use one of {', '.join(WRITERS)}") from None
-    folder = path.parent if str(path.parent) else Path(".")
-    if not folder.is_dir():
-        raise InputError(f"{path}: folder {folder} does not exist")
+    """Write a combined results dataset durably (``simulate.write_dataset``).
+
+    Histories may be dask arrays reading the batch files: they are computed here,
+    in order, by dask's synchronous scheduler.
+    """
     try:
         import dask
     except ImportError:
-        return write_atomic(path, lambda tmp: writer(ds, tmp))
-    # histories may be dask arrays reading the batch files: compute them here, in order
+        return write_dataset(ds, path)
     with dask.config.set(scheduler="synchronous"):
-        return write_atomic(path, lambda tmp: writer(ds, tmp))
+        return write_dataset(ds, path)
 
 
 def _write_json(path: Path, data: dict) -> None:
