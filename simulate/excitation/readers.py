@@ -86,6 +86,7 @@ import difflib
 import json
 import math
 import re
+import warnings
 from numbers import Integral
 from pathlib import Path
 
@@ -162,9 +163,12 @@ def _scan_text(path: Path, source: str, skip: int, values_layout: bool | None) -
     short_line = 0      # a shorter line seen in the values layout (must be the last)
     comment = _COMMENT_PREFIXES
     separators = _SEPARATORS
-    for number, line in enumerate(_read_lines(path, source), start=1):
+    lines = _read_lines(path, source)
+    for number, line in enumerate(lines, start=1):
         if number <= skip:
             continue
+        if rows and not values_layout and _scan_rest_fast(found, lines, number, width):
+            break
         text = line.strip()
         if not text:
             continue
@@ -211,8 +215,34 @@ def _scan_text(path: Path, source: str, skip: int, values_layout: bool | None) -
             )
         rows.append(values)
         line_numbers.append(number)
-    _finite_values(rows, line_numbers, source)
+    _finite_values(found.rows, line_numbers, source)
     return found
+
+
+def _scan_rest_fast(found: _TextFile, lines: list[str], number: int, width: int) -> bool:
+    """Read the data lines from line ``number`` on in one call to numpy's C parser.
+
+    Taken only for columns when the rest of the file holds no comment character;
+    any line numpy does not accept (another column count, a word, a value Python
+    reads but numpy does not) makes it give up, and the line-by-line scan that
+    names the offending line carries on instead. Returns True when it read them.
+    """
+    rest = lines[number - 1:]
+    body = "\n".join(rest)
+    if any(prefix in body for prefix in ("#", "%", "!", "/")):
+        return False
+    try:
+        with warnings.catch_warnings():
+            warnings.simplefilter("error")      # an empty rest is a warning in numpy
+            data = np.loadtxt(body.translate(_SEPARATORS).splitlines(), dtype=np.float64, ndmin=2)
+    except (ValueError, UserWarning):
+        return False
+    numbers = [n for n, line in enumerate(rest, start=number) if line.strip()]
+    if data.shape[1] != width or len(numbers) != len(data):
+        return False
+    found.rows = np.concatenate([np.asarray(found.rows, dtype=np.float64), data])
+    found.lines.extend(numbers)
+    return True
 
 
 def _too_many_columns(n: int, source: str, number: int, names=None):
@@ -264,7 +294,7 @@ def _declared_layout(found: _TextFile):
 
 def _finite_values(rows, line_numbers, source: str) -> None:
     """Raise naming the line of the first non-finite value in ``rows`` (rows may differ in length)."""
-    if not rows:
+    if len(rows) == 0:
         return
     width = len(rows[0])
     if all(len(row) == width for row in rows):
@@ -386,7 +416,7 @@ def _read_text(path: Path, dt, units, name, options) -> list[Record]:
         raise RecordError(f"{source}: column= and time_column= do not apply to layout='values'")
     found = _scan_text(path, source, skip, None if layout is None else layout == "values")
     rows, line_numbers = found.rows, found.lines
-    if not rows:
+    if len(rows) == 0:
         raise RecordError(f"{source}: no acceleration values found")
     if layout is None:
         layout = _declared_layout(found)
