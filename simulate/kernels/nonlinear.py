@@ -33,11 +33,13 @@ iteration).
 
 from __future__ import annotations
 
+import math
+
 import numpy as np
 from numba import njit, prange
 
 from simulate.laws.dispatch import storey_shear
-from simulate.settings import JIT, JIT_PARALLEL
+from simulate.settings import JIT, JIT_INLINE, JIT_PARALLEL
 
 #: Status codes written by the kernels.
 OK = 0
@@ -46,6 +48,12 @@ COLLAPSED = 2
 
 #: Columns of the energy history.
 ENERGY_COLUMNS = ("input", "kinetic", "damping", "strain", "hysteretic")
+
+
+@njit(**JIT_INLINE)
+def _same(x, y):
+    """True if x and y are the same number, signed zeros told apart (NaN is never the same)."""
+    return x == y and (x != 0.0 or math.copysign(1.0, x) == math.copysign(1.0, y))
 
 
 @njit(**JIT)
@@ -97,6 +105,13 @@ def _newmark_nonlinear(m, h, law, P, S_init, kg, cd_in, co_in, C, dense, tangent
     w = np.empty(n)
     y = np.empty(n)
     cp = np.empty(n)
+    # factors of the tridiagonal tangent, kept while no input to them changes
+    fact_inv = np.empty(n)
+    fact_off = np.zeros(n)
+    fact_kt = np.empty(n)
+    fact_from = 0
+    fact_c1 = 0.0
+    fact_g1 = 0.0
     J = np.empty((n, n)) if dense else np.empty((1, 1))
     p_prev = np.empty(n)
     p_next = np.empty(n)
@@ -149,10 +164,20 @@ def _newmark_nonlinear(m, h, law, P, S_init, kg, cd_in, co_in, C, dense, tangent
                         u_new[j] = u[j]
                     if tangent_damping:
                         for j in range(n):
-                            cd[j] = a0 * m[j] + a1 * ktc[j]
+                            cdj = a0 * m[j] + a1 * ktc[j]
                             if j < n - 1:
-                                cd[j] += a1 * ktc[j + 1]
-                                co[j] = -a1 * ktc[j + 1]
+                                cdj += a1 * ktc[j + 1]
+                                coj = -a1 * ktc[j + 1]
+                                if not _same(coj, co[j]):
+                                    fact_from = 0
+                                co[j] = coj
+                            if not _same(cdj, cd[j]):
+                                fact_from = 0
+                            cd[j] = cdj
+                    if c1 != fact_c1 or g1 != fact_g1:
+                        fact_from = 0
+                        fact_c1 = c1
+                        fact_g1 = g1
                     # ---- Newton iterations on u_new
                     conv = False
                     last_du = np.inf
@@ -198,6 +223,10 @@ def _newmark_nonlinear(m, h, law, P, S_init, kg, cd_in, co_in, C, dense, tangent
                             y[j] = r
                             if abs(r) > rmax:
                                 rmax = abs(r)
+                        for j in range(fact_from):
+                            if not _same(kt[j], fact_kt[j]):
+                                fact_from = j
+                                break
                         if not (rmax < np.inf):
                             iterations += it
                             break
@@ -227,22 +256,35 @@ def _newmark_nonlinear(m, h, law, P, S_init, kg, cd_in, co_in, C, dense, tangent
                                 if abs(dx[j]) > last_du:
                                     last_du = abs(dx[j])
                         else:
-                            # Thomas algorithm on the symmetric tridiagonal tangent
-                            off_prev = 0.0
-                            for j in range(n):
-                                diag = c1 * m[j] + g1 * cd[j] + kt[j] - kg[j]
-                                off = 0.0
-                                if j < n - 1:
-                                    kn = kt[j + 1] - kg[j + 1]
-                                    diag += kn
-                                    off = g1 * co[j] - kn
-                                if j > 0:
-                                    diag -= off_prev * cp[j - 1]
-                                    y[j] -= off_prev * y[j - 1]
-                                inv = 1.0 / diag
-                                cp[j] = off * inv
-                                y[j] *= inv
-                                off_prev = off
+                            # Thomas algorithm on the symmetric tridiagonal tangent. Row j of
+                            # the elimination depends on kt[:j + 2] only, so rows before the
+                            # first storey whose tangent changed keep their factors (same
+                            # operations on the same numbers, hence the same bits).
+                            if fact_from < n:
+                                j0 = fact_from - 1 if fact_from > 0 else 0
+                                off_prev = fact_off[j0 - 1] if j0 > 0 else 0.0
+                                for j in range(j0, n):
+                                    diag = c1 * m[j] + g1 * cd[j] + kt[j] - kg[j]
+                                    off = 0.0
+                                    if j < n - 1:
+                                        kn = kt[j + 1] - kg[j + 1]
+                                        diag += kn
+                                        off = g1 * co[j] - kn
+                                    if j > 0:
+                                        diag -= off_prev * cp[j - 1]
+                                    inv = 1.0 / diag
+                                    fact_inv[j] = inv
+                                    fact_off[j] = off
+                                    cp[j] = off * inv
+                                    off_prev = off
+                                for j in range(fact_from, n):
+                                    fact_kt[j] = kt[j]
+                                fact_from = n
+                            yj = y[0] * fact_inv[0]
+                            y[0] = yj
+                            for j in range(1, n):
+                                yj = (y[j] - fact_off[j - 1] * yj) * fact_inv[j]
+                                y[j] = yj
                             last_du = 0.0
                             x = 0.0
                             for j in range(n - 1, -1, -1):
