@@ -38,6 +38,7 @@ import math
 import numpy as np
 from numba import njit, prange
 
+from simulate.laws.base import N_PARAMS, N_STATE
 from simulate.laws.dispatch import storey_shear
 from simulate.settings import JIT, JIT_INLINE, JIT_PARALLEL
 
@@ -48,6 +49,46 @@ COLLAPSED = 2
 
 #: Columns of the energy history.
 ENERGY_COLUMNS = ("input", "kinetic", "damping", "strain", "hysteretic")
+
+
+# Columns of the per-storey work array X (one row per storey). Keeping a storey's numbers
+# side by side lets the hot loops run on one row pointer instead of some thirty array
+# pointers, which the register allocator could not keep in registers.
+# The converged state (the first _NB columns, backed up before a step is split):
+_U, _V, _A = 0, 1, 2            # floor displacement, velocity, acceleration
+_D, _VC, _FDC, _KTC = 3, 4, 5, 6  # storey deformation, spring shear, damping force, tangent
+_W, _PL = 7, 8                  # spring work, cumulative plastic deformation
+_S = 9                          # law state, N_STATE columns
+_NB = _S + N_STATE
+_B = _NB                        # backup of the columns above
+# the trial state of the Newton iterations:
+_UN = _B + _NB                  # displacement
+_VN = _UN + 1                   # velocity
+_AN = _UN + 2                   # acceleration
+_VS = _UN + 3                   # spring shear
+_KT = _UN + 4                   # tangent stiffness
+_WS = _UN + 5                   # storey shear with P-Delta
+_FD = _UN + 6                   # damping force
+_Y = _UN + 7                    # residual, then the Newton correction
+_ST = _UN + 8                   # law state, N_STATE columns
+# factors of the tridiagonal tangent and the tangents they were made with:
+_CP = _ST + N_STATE
+_INV = _CP + 1
+_OFF = _CP + 2
+_KF = _CP + 3
+# constants and loads:
+_M = _KF + 1                    # floor mass
+_KG = _M + 1                    # geometric stiffness P / h
+_K0 = _M + 2                    # elastic stiffness
+_H = _M + 3                     # storey height
+_CD = _M + 4                    # damping matrix diagonal
+_CO = _M + 5                    # damping matrix off-diagonal (row j, column j + 1)
+_P0 = _M + 6                    # load at the start and the end of the step
+_P1 = _M + 7
+_PP = _M + 8                    # load at the start and the end of the substep
+_PN = _M + 9
+_P = _M + 10                    # law parameters, N_PARAMS columns
+_NCOL = _P + N_PARAMS
 
 
 @njit(**JIT_INLINE)
@@ -74,67 +115,41 @@ def _newmark_nonlinear(m, h, law, P, S_init, kg, cd_in, co_in, C, dense, tangent
 
     Everything per step lives in this one function and the laws are called with
     scalars only: array arguments to inner calls cost reference counting
-    (atomic operations) that dominated the run time.
+    (atomic operations) that dominated the run time. The per-storey numbers live
+    in one work array X (see the column names above).
+
+    The factors of the tridiagonal tangent are kept while no storey tangent, Newmark
+    constant or damping term changes, and remade only from the first row that
+    changed (row j depends on the tangents of storeys up to j + 1): the same
+    operations on the same numbers, so the results do not change.
     """
     n = m.shape[0]
-    ns = S_init.shape[1]
-    cd = cd_in.copy()
-    co = co_in.copy()
-    k0 = np.empty(n)
+    X = np.zeros((n, _NCOL))
     for j in range(n):
-        k0[j] = P[j, 0]
-    # converged state
-    u = np.zeros(n)
-    v = np.zeros(n)
-    a = np.zeros(n)
-    S = S_init.copy()
-    dcom = np.zeros(n)
-    Vc = np.zeros(n)
-    fdc = np.zeros(n)
-    ktc = k0.copy()
-    W = np.zeros(n)
-    plastic = np.zeros(n)
-    # trial state and work arrays
-    u_new = np.empty(n)
-    v_new = np.empty(n)
-    a_new = np.empty(n)
-    V_new = np.empty(n)
-    kt = np.empty(n)
-    fd_new = np.empty(n)
-    St = np.empty_like(S)
-    w = np.empty(n)
-    y = np.empty(n)
-    cp = np.empty(n)
-    # factors of the tridiagonal tangent, kept while no input to them changes
-    fact_inv = np.empty(n)
-    fact_off = np.zeros(n)
-    fact_kt = np.empty(n)
-    fact_from = 0
+        X[j, _M] = m[j]
+        X[j, _KG] = kg[j]
+        X[j, _K0] = P[j, 0]
+        X[j, _KTC] = P[j, 0]
+        X[j, _H] = h[j]
+        X[j, _CD] = cd_in[j]
+        if j < n - 1:
+            X[j, _CO] = co_in[j]
+        for q in range(N_PARAMS):
+            X[j, _P + q] = P[j, q]
+        for q in range(N_STATE):
+            X[j, _S + q] = S_init[j, q]
+    J = np.empty((n, n)) if dense else np.empty((1, 1))
+    rhs = np.empty(n) if dense else np.empty(1)
+    fact_from = 0           # rows from here on need new factors
     fact_c1 = 0.0
     fact_g1 = 0.0
-    J = np.empty((n, n)) if dense else np.empty((1, 1))
-    p_prev = np.empty(n)
-    p_next = np.empty(n)
-    p0 = np.empty(n)
-    p1 = np.empty(n)
-    # the state at the start of a step, for substepping
-    bu = np.empty(n)
-    bv = np.empty(n)
-    ba = np.empty(n)
-    bS = np.empty_like(S)
-    bd = np.empty(n)
-    bV = np.empty(n)
-    bfd = np.empty(n)
-    bkt = np.empty(n)
-    bW = np.empty(n)
-    bpl = np.empty(n)
     e_in = 0.0
     e_d = 0.0
     be_in = 0.0
     be_d = 0.0
 
     for j in range(n):
-        a[j] = (-m[j] * ag[0] + (force[0, j] if has_force else 0.0)) / m[j]
+        X[j, _A] = (-m[j] * ag[0] + (force[0, j] if has_force else 0.0)) / m[j]
     status = 0
     n_valid = nsteps
     iterations = 0
@@ -142,8 +157,8 @@ def _newmark_nonlinear(m, h, law, P, S_init, kg, cd_in, co_in, C, dense, tangent
     for i in range(nsteps):
         if i > 0:
             for j in range(n):
-                p0[j] = -m[j] * ag[i - 1] + (force[i - 1, j] if has_force else 0.0)
-                p1[j] = -m[j] * ag[i] + (force[i, j] if has_force else 0.0)
+                X[j, _P0] = -X[j, _M] * ag[i - 1] + (force[i - 1, j] if has_force else 0.0)
+                X[j, _P1] = -X[j, _M] * ag[i] + (force[i, j] if has_force else 0.0)
             nsub = 1
             depth = 0
             while True:
@@ -155,78 +170,84 @@ def _newmark_nonlinear(m, h, law, P, S_init, kg, cd_in, co_in, C, dense, tangent
                 g1 = gamma / (beta * h_dt)
                 g2 = 1.0 - gamma / beta
                 g3 = h_dt * (1.0 - 0.5 * gamma / beta)
+                if c1 != fact_c1 or g1 != fact_g1:
+                    fact_from = 0
+                    fact_c1 = c1
+                    fact_g1 = g1
                 for ksub in range(nsub):
                     th0 = ksub / nsub
                     th1 = (ksub + 1) / nsub
                     for j in range(n):
-                        p_prev[j] = p0[j] + th0 * (p1[j] - p0[j])
-                        p_next[j] = p0[j] + th1 * (p1[j] - p0[j])
-                        u_new[j] = u[j]
+                        p0 = X[j, _P0]
+                        p1 = X[j, _P1]
+                        X[j, _PP] = p0 + th0 * (p1 - p0)
+                        X[j, _PN] = p0 + th1 * (p1 - p0)
+                        X[j, _UN] = X[j, _U]
                     if tangent_damping:
                         for j in range(n):
-                            cdj = a0 * m[j] + a1 * ktc[j]
+                            cdj = a0 * X[j, _M] + a1 * X[j, _KTC]
                             if j < n - 1:
-                                cdj += a1 * ktc[j + 1]
-                                coj = -a1 * ktc[j + 1]
-                                if not _same(coj, co[j]):
+                                cdj += a1 * X[j + 1, _KTC]
+                                coj = -a1 * X[j + 1, _KTC]
+                                if not _same(coj, X[j, _CO]):
                                     fact_from = 0
-                                co[j] = coj
-                            if not _same(cdj, cd[j]):
+                                X[j, _CO] = coj
+                            if not _same(cdj, X[j, _CD]):
                                 fact_from = 0
-                            cd[j] = cdj
-                    if c1 != fact_c1 or g1 != fact_g1:
-                        fact_from = 0
-                        fact_c1 = c1
-                        fact_g1 = g1
-                    # ---- Newton iterations on u_new
+                            X[j, _CD] = cdj
+                    # ---- Newton iterations on the trial displacements X[:, _UN]
                     conv = False
                     last_du = np.inf
                     for it in range(max_iter + 1):
                         below = 0.0
                         for j in range(n):
-                            d = u_new[j] - below
-                            below = u_new[j]
+                            uj = X[j, _UN]
+                            d = uj - below
+                            below = uj
                             Vs, kts, t0, t1, t2, t3, t4 = storey_shear(
-                                law[j], d, dcom[j], P[j, 0], P[j, 1], P[j, 2], P[j, 3], P[j, 4], P[j, 5],
-                                P[j, 6], S[j, 0], S[j, 1], S[j, 2], S[j, 3], S[j, 4])
-                            St[j, 0] = t0
-                            St[j, 1] = t1
-                            St[j, 2] = t2
-                            St[j, 3] = t3
-                            St[j, 4] = t4
-                            V_new[j] = Vs
-                            kt[j] = kts
-                            w[j] = Vs - kg[j] * d          # total storey shear with P-Delta
-                            du = u_new[j] - u[j]
-                            a_new[j] = c1 * du - c2 * v[j] - c3 * a[j]
-                            v_new[j] = g1 * du + g2 * v[j] + g3 * a[j]
-                        # damping forces C v_new
+                                law[j], d, X[j, _D], X[j, _P], X[j, _P + 1], X[j, _P + 2], X[j, _P + 3],
+                                X[j, _P + 4], X[j, _P + 5], X[j, _P + 6],
+                                X[j, _S], X[j, _S + 1], X[j, _S + 2], X[j, _S + 3], X[j, _S + 4])
+                            X[j, _ST] = t0
+                            X[j, _ST + 1] = t1
+                            X[j, _ST + 2] = t2
+                            X[j, _ST + 3] = t3
+                            X[j, _ST + 4] = t4
+                            X[j, _VS] = Vs
+                            X[j, _KT] = kts
+                            X[j, _WS] = Vs - X[j, _KG] * d          # total storey shear with P-Delta
+                            du = uj - X[j, _U]
+                            X[j, _AN] = c1 * du - c2 * X[j, _V] - c3 * X[j, _A]
+                            X[j, _VN] = g1 * du + g2 * X[j, _V] + g3 * X[j, _A]
+                        # damping forces C v_new and residual R = p - M a - f_D - f_S
+                        rmax = 0.0
                         if dense:
                             for j in range(n):
                                 sacc = 0.0
                                 for l in range(n):
-                                    sacc += C[j, l] * v_new[l]
-                                fd_new[j] = sacc
+                                    sacc += C[j, l] * X[l, _VN]
+                                X[j, _FD] = sacc
+                            for j in range(n):
+                                fs = X[j, _WS] - (X[j + 1, _WS] if j < n - 1 else 0.0)
+                                r = X[j, _PN] - X[j, _M] * X[j, _AN] - X[j, _FD] - fs
+                                X[j, _Y] = r
+                                if abs(r) > rmax:
+                                    rmax = abs(r)
                         else:
                             for j in range(n):
-                                sacc = cd[j] * v_new[j]
+                                sacc = X[j, _CD] * X[j, _VN]
                                 if j > 0:
-                                    sacc += co[j - 1] * v_new[j - 1]
+                                    sacc += X[j - 1, _CO] * X[j - 1, _VN]
                                 if j < n - 1:
-                                    sacc += co[j] * v_new[j + 1]
-                                fd_new[j] = sacc
-                        # residual R = p - M a - f_D - f_S
-                        rmax = 0.0
-                        for j in range(n):
-                            fs = w[j] - (w[j + 1] if j < n - 1 else 0.0)
-                            r = p_next[j] - m[j] * a_new[j] - fd_new[j] - fs
-                            y[j] = r
-                            if abs(r) > rmax:
-                                rmax = abs(r)
-                        for j in range(fact_from):
-                            if not _same(kt[j], fact_kt[j]):
-                                fact_from = j
-                                break
+                                    sacc += X[j, _CO] * X[j + 1, _VN]
+                                X[j, _FD] = sacc
+                                fs = X[j, _WS] - (X[j + 1, _WS] if j < n - 1 else 0.0)
+                                r = X[j, _PN] - X[j, _M] * X[j, _AN] - sacc - fs
+                                X[j, _Y] = r
+                                if abs(r) > rmax:
+                                    rmax = abs(r)
+                                if j < fact_from and not _same(X[j, _KT], X[j, _KF]):
+                                    fact_from = j
                         if not (rmax < np.inf):
                             iterations += it
                             break
@@ -243,53 +264,53 @@ def _newmark_nonlinear(m, h, law, P, S_init, kg, cd_in, co_in, C, dense, tangent
                                 for l in range(n):
                                     J[j, l] = g1 * C[j, l]
                             for j in range(n):
-                                J[j, j] += c1 * m[j] + kt[j] - kg[j]
+                                J[j, j] += c1 * X[j, _M] + X[j, _KT] - X[j, _KG]
                                 if j < n - 1:
-                                    kn = kt[j + 1] - kg[j + 1]
+                                    kn = X[j + 1, _KT] - X[j + 1, _KG]
                                     J[j, j] += kn
                                     J[j, j + 1] -= kn
                                     J[j + 1, j] -= kn
-                            dx = np.linalg.solve(J, y)
+                                rhs[j] = X[j, _Y]
+                            dx = np.linalg.solve(J, rhs)
                             last_du = 0.0
                             for j in range(n):
-                                u_new[j] += dx[j]
+                                X[j, _UN] += dx[j]
                                 if abs(dx[j]) > last_du:
                                     last_du = abs(dx[j])
                         else:
-                            # Thomas algorithm on the symmetric tridiagonal tangent. Row j of
-                            # the elimination depends on kt[:j + 2] only, so rows before the
-                            # first storey whose tangent changed keep their factors (same
-                            # operations on the same numbers, hence the same bits).
+                            # Thomas algorithm on the symmetric tridiagonal tangent
                             if fact_from < n:
                                 j0 = fact_from - 1 if fact_from > 0 else 0
-                                off_prev = fact_off[j0 - 1] if j0 > 0 else 0.0
+                                off_prev = X[j0 - 1, _OFF] if j0 > 0 else 0.0
                                 for j in range(j0, n):
-                                    diag = c1 * m[j] + g1 * cd[j] + kt[j] - kg[j]
+                                    diag = c1 * X[j, _M] + g1 * X[j, _CD] + X[j, _KT] - X[j, _KG]
                                     off = 0.0
                                     if j < n - 1:
-                                        kn = kt[j + 1] - kg[j + 1]
+                                        kn = X[j + 1, _KT] - X[j + 1, _KG]
                                         diag += kn
-                                        off = g1 * co[j] - kn
+                                        off = g1 * X[j, _CO] - kn
                                     if j > 0:
-                                        diag -= off_prev * cp[j - 1]
+                                        diag -= off_prev * X[j - 1, _CP]
                                     inv = 1.0 / diag
-                                    fact_inv[j] = inv
-                                    fact_off[j] = off
-                                    cp[j] = off * inv
+                                    X[j, _INV] = inv
+                                    X[j, _OFF] = off
+                                    X[j, _CP] = off * inv
                                     off_prev = off
                                 for j in range(fact_from, n):
-                                    fact_kt[j] = kt[j]
+                                    X[j, _KF] = X[j, _KT]
                                 fact_from = n
-                            yj = y[0] * fact_inv[0]
-                            y[0] = yj
+                            x = X[0, _Y] * X[0, _INV]
+                            X[0, _Y] = x
                             for j in range(1, n):
-                                yj = (y[j] - fact_off[j - 1] * yj) * fact_inv[j]
-                                y[j] = yj
+                                x = (X[j, _Y] - X[j - 1, _OFF] * x) * X[j, _INV]
+                                X[j, _Y] = x
+                            X[n - 1, _UN] += x
                             last_du = 0.0
-                            x = 0.0
-                            for j in range(n - 1, -1, -1):
-                                x = y[j] - cp[j] * x if j < n - 1 else y[j]
-                                u_new[j] += x
+                            if abs(x) > last_du:
+                                last_du = abs(x)
+                            for j in range(n - 2, -1, -1):
+                                x = X[j, _Y] - X[j, _CP] * x
+                                X[j, _UN] += x
                                 if abs(x) > last_du:
                                     last_du = abs(x)
                     if not conv:
@@ -298,23 +319,26 @@ def _newmark_nonlinear(m, h, law, P, S_init, kg, cd_in, co_in, C, dense, tangent
                     # commit the substep; energies by the trapezoidal rule over du
                     below = 0.0
                     for j in range(n):
-                        du = u_new[j] - u[j]
-                        e_in += 0.5 * (p_prev[j] + p_next[j]) * du
-                        e_d += 0.5 * (fdc[j] + fd_new[j]) * du
-                        d = u_new[j] - below
-                        below = u_new[j]
-                        dd = d - dcom[j]
-                        W[j] += 0.5 * (Vc[j] + V_new[j]) * dd
-                        plastic[j] += abs(dd - (V_new[j] - Vc[j]) / k0[j])
-                        dcom[j] = d
-                        Vc[j] = V_new[j]
-                        fdc[j] = fd_new[j]
-                        ktc[j] = kt[j]
-                        u[j] = u_new[j]
-                        v[j] = v_new[j]
-                        a[j] = a_new[j]
-                        for q in range(ns):
-                            S[j, q] = St[j, q]
+                        uj = X[j, _UN]
+                        du = uj - X[j, _U]
+                        e_in += 0.5 * (X[j, _PP] + X[j, _PN]) * du
+                        e_d += 0.5 * (X[j, _FDC] + X[j, _FD]) * du
+                        d = uj - below
+                        below = uj
+                        dd = d - X[j, _D]
+                        Vn = X[j, _VS]
+                        Vo = X[j, _VC]
+                        X[j, _W] += 0.5 * (Vo + Vn) * dd
+                        X[j, _PL] += abs(dd - (Vn - Vo) / X[j, _K0])
+                        X[j, _D] = d
+                        X[j, _VC] = Vn
+                        X[j, _FDC] = X[j, _FD]
+                        X[j, _KTC] = X[j, _KT]
+                        X[j, _U] = uj
+                        X[j, _V] = X[j, _VN]
+                        X[j, _A] = X[j, _AN]
+                        for q in range(N_STATE):
+                            X[j, _S + q] = X[j, _ST + q]
                 if ok:
                     break
                 if depth == max_depth and nsub == 1:
@@ -323,32 +347,14 @@ def _newmark_nonlinear(m, h, law, P, S_init, kg, cd_in, co_in, C, dense, tangent
                 if nsub == 1:
                     substepped += 1
                     for j in range(n):
-                        bu[j] = u[j]
-                        bv[j] = v[j]
-                        ba[j] = a[j]
-                        bd[j] = dcom[j]
-                        bV[j] = Vc[j]
-                        bfd[j] = fdc[j]
-                        bkt[j] = ktc[j]
-                        bW[j] = W[j]
-                        bpl[j] = plastic[j]
-                        for q in range(ns):
-                            bS[j, q] = S[j, q]
+                        for q in range(_NB):
+                            X[j, _B + q] = X[j, q]
                     be_in = e_in
                     be_d = e_d
                 else:
                     for j in range(n):
-                        u[j] = bu[j]
-                        v[j] = bv[j]
-                        a[j] = ba[j]
-                        dcom[j] = bd[j]
-                        Vc[j] = bV[j]
-                        fdc[j] = bfd[j]
-                        ktc[j] = bkt[j]
-                        W[j] = bW[j]
-                        plastic[j] = bpl[j]
-                        for q in range(ns):
-                            S[j, q] = bS[j, q]
+                        for q in range(_NB):
+                            X[j, q] = X[j, _B + q]
                     e_in = be_in
                     e_d = be_d
                     if depth == max_depth:
@@ -368,20 +374,23 @@ def _newmark_nonlinear(m, h, law, P, S_init, kg, cd_in, co_in, C, dense, tangent
         collapsed = False
         below = 0.0
         for j in range(n):
-            u_out[i, j] = u[j]
-            v_out[i, j] = v[j]
-            acc_out[i, j] = a[j] + agi
-            d = u[j] - below
-            below = u[j]
-            dr = d / h[j]
+            uj = X[j, _U]
+            vj = X[j, _V]
+            Vc = X[j, _VC]
+            u_out[i, j] = uj
+            v_out[i, j] = vj
+            acc_out[i, j] = X[j, _A] + agi
+            d = uj - below
+            below = uj
+            dr = d / X[j, _H]
             drift_out[i, j] = dr
-            shear_out[i, j] = Vc[j]
+            shear_out[i, j] = Vc
             if abs(dr) > collapse_drift:
                 collapsed = True
-            e_k += 0.5 * m[j] * v[j] * v[j]
-            rec = 0.5 * Vc[j] * Vc[j] / k0[j]
-            e_s += rec - 0.5 * kg[j] * d * d
-            e_h += W[j] - rec
+            e_k += 0.5 * X[j, _M] * vj * vj
+            rec = 0.5 * Vc * Vc / X[j, _K0]
+            e_s += rec - 0.5 * X[j, _KG] * d * d
+            e_h += X[j, _W] - rec
         energy_out[i, 0] = e_in
         energy_out[i, 1] = e_k
         energy_out[i, 2] = e_d
@@ -392,8 +401,8 @@ def _newmark_nonlinear(m, h, law, P, S_init, kg, cd_in, co_in, C, dense, tangent
             n_valid = i + 1
             break
     for j in range(n):
-        storey_out[j, 0] = W[j] - 0.5 * Vc[j] * Vc[j] / k0[j]
-        storey_out[j, 1] = plastic[j]
+        storey_out[j, 0] = X[j, _W] - 0.5 * X[j, _VC] * X[j, _VC] / X[j, _K0]
+        storey_out[j, 1] = X[j, _PL]
     for row in range(n_valid, u_out.shape[0]):
         for j in range(n):
             u_out[row, j] = np.nan
