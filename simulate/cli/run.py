@@ -35,7 +35,7 @@ from simulate.results.netcdf import WRITERS
 from simulate.settings import STANDARD_GRAVITY
 from simulate.suite import run as run_analysis
 from simulate.suite.executors import make_executor
-from simulate.suite.jobs import DEFAULT_BATCH_SIZE, FRAME, KEEP_CHOICES, TWIN, Storage, plan_suite
+from simulate.suite.jobs import BATCH_BYTES, DEFAULT_BATCH_SIZE, FRAME, KEEP_CHOICES, TWIN, Storage, plan_suite
 from simulate.suite.store import RunFolder, collect, default_run_dir, remove_run_folder, run_suite, variant_output
 
 #: Width of the nonlinear header lines before they wrap.
@@ -111,15 +111,20 @@ def floor_list(ctx, param, value):
               help="Continue the run folder of an interrupted run: finished analyses are kept, the "
                    "others run. The config and options must be those the folder was made with.")
 @click.option("--workers", type=click.IntRange(min=1), default=None, metavar="N",
-              help="Worker processes (default 1: analyses run in this process on all cores). "
-                   "With --cluster local: the number of Dask workers.")
+              help="Cores to use (default: all). The analyses of a batch run on N threads of this "
+                   "process; with --processes, in N worker processes; with --cluster local, the "
+                   "number of Dask workers.")
+@click.option("--processes", is_flag=True,
+              help="Run the batches in worker processes (one thread each) instead of threads of "
+                   "this process: each worker starts in a second or two and keeps its memory apart.")
 @click.option("--scheduler", default=None, metavar="tcp://HOST:PORT",
               help="Run on the running Dask scheduler at this address (dask.distributed).")
 @click.option("--cluster", type=click.Choice(["local"]), default=None,
               help="Start a Dask cluster on this machine (127.0.0.1) with --workers processes.")
-@click.option("--batch-size", type=click.IntRange(min=1), default=DEFAULT_BATCH_SIZE, show_default=True,
-              metavar="N", help="Analyses per batch (one call of the compiled kernels, one file in the "
-                                "run folder).")
+@click.option("--batch-size", type=click.IntRange(min=1), default=None, metavar="N",
+              help=f"Analyses per batch (one call of the compiled kernels, one file in the run folder). "
+                   f"Default: {DEFAULT_BATCH_SIZE}, fewer when their histories would pass "
+                   f"{BATCH_BYTES // 2 ** 20} MB.")
 @click.option("--keep", type=click.Choice(KEEP_CHOICES), default="histories", show_default=True,
               help="'envelopes': drop every variable with a time dimension from the results.")
 @click.option("--floors", callback=floor_list, default=None, metavar="1,3,6",
@@ -128,12 +133,16 @@ def floor_list(ctx, param, value):
 @click.option("--decimate", type=click.IntRange(min=1), default=1, metavar="K",
               help="Keep every K-th time step of the histories. Envelopes, residual drifts and "
                    "statuses are always computed from the full-rate histories.")
+@click.option("--compress", is_flag=True,
+              help="zlib-compress the histories in the results file too (envelopes always are): "
+                   "about 15 % smaller, several times slower to write.")
 @click.option("--quiet", is_flag=True,
               help="No progress bar or progress lines on stderr; one line per failed analysis only.")
 @debug_option
 def run_command(config: Path, output: Path | None, method: str | None, dt: float | None,
-                run_dir: Path | None, resume: bool, workers: int | None, scheduler: str | None,
-                cluster: str | None, batch_size: int, keep: str, floors, decimate: int, quiet: bool):
+                run_dir: Path | None, resume: bool, workers: int | None, processes: bool,
+                scheduler: str | None, cluster: str | None, batch_size: int | None, keep: str, floors,
+                decimate: int, compress: bool, quiet: bool):
     """Run the records and harmonic loads of CONFIG through its building.
 
     Writes the full response histories and envelopes to a NetCDF file and
@@ -166,10 +175,10 @@ def run_command(config: Path, output: Path | None, method: str | None, dt: float
     folder = RunFolder.prepare(run_dir if kept else default_run_dir(target), suite, resume)
     if folder.exists and not resume:
         click.echo(f"swaysim: continuing the run in {folder.path} (same config, options and records)", err=True)
-    with make_executor(workers, scheduler, cluster) as executor:
+    with make_executor(workers, scheduler, cluster, processes=processes) as executor:
         # run_analysis is looked up here, at call time, so the analysis function can be swapped
         run_suite(suite, folder.path, folder=folder, executor=executor, quiet=quiet, analyse=run_analysis)
-    written = collect(folder.path, target)
+    written = collect(folder.path, target, compress_histories=compress)
     ds = _open_written(written[FRAME])
     twin = _open_written(written[TWIN]) if TWIN in written else None
     try:

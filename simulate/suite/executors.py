@@ -5,12 +5,17 @@ back to this process, which alone writes the run folder; so results do not
 depend on the executor or the number of workers, and a cluster's workers need
 no access to the run folder.
 
-* :class:`InProcess` runs one batch after the other here; the batch kernels use
-  every numba thread.
+* :class:`InProcess` (the default) runs the batches here, one after the other,
+  each on ``threads`` numba threads (the batch kernels spread its records over
+  them with ``prange``; all cores by default). The next batch is computed in a
+  background thread while this one saves the last: the compiled kernels release
+  the GIL, so the computing and the writing overlap.
 * :class:`ProcessPool` runs ``workers`` processes started with the ``spawn``
   method (no state inherited by forking); each loads the compiled kernels from
   numba's cache (``cache=True``) instead of compiling them, and runs its batch
   kernels on one numba thread so that the workers do not oversubscribe the cores.
+  Starting them costs a second or two (imports and the kernel cache), so it pays
+  only for long suites; it keeps each worker's memory apart.
 * :class:`DaskExecutor` submits the batches to a ``dask.distributed`` scheduler,
   either an existing one (``tcp://HOST:PORT``) or a ``LocalCluster`` it starts on
   127.0.0.1 with ``workers`` single-threaded worker processes.
@@ -21,15 +26,17 @@ not grow with the size of the suite.
 
 from __future__ import annotations
 
+import collections
 import concurrent.futures
 import logging
 import multiprocessing
+import os
 import re
 from typing import Callable, Iterable, Iterator
 
 from simulate.errors import InputError
 
-__all__ = ["InProcess", "ProcessPool", "DaskExecutor", "make_executor", "CONNECT_TIMEOUT"]
+__all__ = ["Executor", "InProcess", "ProcessPool", "DaskExecutor", "make_executor", "CONNECT_TIMEOUT"]
 
 #: Seconds to wait for a Dask scheduler to answer before giving up.
 CONNECT_TIMEOUT = 5
@@ -40,17 +47,11 @@ IN_FLIGHT_PER_WORKER = 2
 _ADDRESS = re.compile(r"^(tcp|tls)://[^\s:/]+:\d+$")
 
 
-class InProcess:
-    """Run the batches here, one after the other (all numba threads for each batch)."""
+class Executor:
+    """What the executors share: a context manager whose ``close`` releases its workers."""
 
-    name = "in-process"
-    workers = 1
-    threads = None
-
-    def map(self, fn: Callable, specs: Iterable) -> Iterator[tuple[int, object]]:
-        """Yield ``(position, fn(spec))`` for each spec, as they finish."""
-        for position, spec in enumerate(specs):
-            yield position, fn(spec)
+    name = "executor"
+    threads: int | None = 1
 
     def close(self) -> None:
         pass
@@ -61,8 +62,52 @@ class InProcess:
     def __exit__(self, *exc):
         self.close()
 
+
+class InProcess(Executor):
+    """Run the batches here, one after the other, on ``threads`` numba threads (None: all cores)."""
+
+    name = "in-process"
+
+    def __init__(self, threads: int | None = None):
+        self.threads = None if threads is None else int(threads)
+        if self.threads is not None and self.threads < 1:
+            raise InputError(f"--workers: expected a whole number >= 1, got {threads}")
+
+    @property
+    def workers(self) -> int:
+        if self.threads is not None:
+            return self.threads
+        import numba
+
+        return numba.config.NUMBA_NUM_THREADS
+
+    def map(self, fn: Callable, specs: Iterable) -> Iterator[tuple[int, object]]:
+        """Yield ``(position, fn(spec))`` for each spec, in order.
+
+        ``fn`` runs in one background thread, a batch ahead of the caller, so that
+        the caller's work on a result (saving it) overlaps the next computation.
+        """
+        items = enumerate(specs)
+        running: collections.deque = collections.deque()
+        pool = concurrent.futures.ThreadPoolExecutor(max_workers=1, thread_name_prefix="swaysim-batch")
+
+        def submit():
+            item = next(items, None)
+            if item is not None:
+                running.append((item[0], pool.submit(fn, item[1])))
+
+        try:
+            submit()
+            while running:
+                position, future = running.popleft()
+                result = future.result()
+                submit()            # the next batch computes while the caller saves this one
+                yield position, result
+        finally:
+            pool.shutdown(wait=True, cancel_futures=True)
+
     def describe(self) -> str:
-        return "in this process"
+        return f"in this process on {self.workers} thread{'s' if self.workers != 1 else ''}"
 
 
 def _init_worker() -> None:
@@ -72,7 +117,7 @@ def _init_worker() -> None:
     numba.set_num_threads(1)
 
 
-class ProcessPool(InProcess):
+class ProcessPool(Executor):
     """A pool of ``workers`` spawned processes, one numba thread each."""
 
     name = "process-pool"
@@ -120,7 +165,7 @@ def _distributed(option: str):
     return distributed
 
 
-class DaskExecutor(InProcess):
+class DaskExecutor(Executor):
     """Batches as tasks on a ``dask.distributed`` cluster.
 
     Parameters
@@ -201,11 +246,16 @@ class DaskExecutor(InProcess):
         return f"Dask cluster at {self.address} ({self.workers} workers)"
 
 
-def make_executor(workers: int | None = None, scheduler: str | None = None, cluster: str | None = None):
-    """The executor for the command-line choices (``--workers``, ``--scheduler``, ``--cluster``)."""
+def make_executor(workers: int | None = None, scheduler: str | None = None, cluster: str | None = None,
+                  processes: bool = False):
+    """The executor for the command-line choices (``--workers``, ``--processes``, ``--scheduler``, ``--cluster``)."""
     if scheduler and cluster:
         raise InputError("--scheduler and --cluster: give one of them (an existing scheduler, or a "
                          "local cluster to start)")
+    if processes and (scheduler or cluster):
+        raise InputError("--processes: not used with --scheduler or --cluster (Dask workers are processes)")
+    if workers is not None and workers < 1:
+        raise InputError(f"--workers: expected a whole number >= 1, got {workers}")
     if scheduler:
         if workers is not None:
             raise InputError("--workers: not used with --scheduler (the cluster has its own workers)")
@@ -214,8 +264,14 @@ def make_executor(workers: int | None = None, scheduler: str | None = None, clus
         if cluster != "local":
             raise InputError(f"--cluster {cluster}: unknown cluster; only 'local' is known")
         return DaskExecutor(local_workers=workers or 2)
-    if workers is None or workers == 1:
-        return InProcess()
-    if workers < 1:
-        raise InputError(f"--workers: expected a whole number >= 1, got {workers}")
-    return ProcessPool(workers)
+    if processes:
+        return ProcessPool(workers or _cores())
+    return InProcess(threads=workers)
+
+
+def _cores() -> int:
+    """Cores this process may use."""
+    try:
+        return len(os.sched_getaffinity(0))
+    except (AttributeError, OSError):
+        return os.cpu_count() or 1

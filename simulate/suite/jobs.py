@@ -35,15 +35,20 @@ from simulate.suite.plan import make_plan
 from simulate.suite.run import run
 
 __all__ = ["Job", "Batch", "Storage", "Suite", "BatchSpec", "plan_suite", "run_batch",
-           "VARIANTS", "KEEP_CHOICES", "DEFAULT_BATCH_SIZE"]
+           "VARIANTS", "KEEP_CHOICES", "DEFAULT_BATCH_SIZE", "default_batch_size"]
 
 #: Variant names: the frame as given and its linear twin.
 FRAME, TWIN = "frame", "linear-twin"
 VARIANTS = (FRAME, TWIN)
 
-#: Records per batch: enough for the ``prange`` loop of the batch kernels to keep the
-#: cores of one worker busy, few enough that a killed run loses little.
-DEFAULT_BATCH_SIZE = 8
+#: Most records per batch (the default batch size): enough for the ``prange`` loop of the
+#: batch kernels to keep the cores busy and to spread the fixed cost of a batch (its
+#: dataset and its file) thin, few enough that a killed run loses little.
+DEFAULT_BATCH_SIZE = 32
+
+#: The default batch size is lowered so that a batch's full-rate histories take at most
+#: this many bytes of memory (long records, tall frames).
+BATCH_BYTES = 64 * 2 ** 20
 
 #: What a results file keeps: full histories, or the envelopes only.
 KEEP_CHOICES = ("histories", "envelopes")
@@ -286,8 +291,18 @@ def _read_records(cfg) -> list[Excitation]:
     return out
 
 
+def default_batch_size(n_storeys: int, n_time: int) -> int:
+    """Records per batch: :data:`DEFAULT_BATCH_SIZE`, fewer when their histories pass :data:`BATCH_BYTES`.
+
+    It depends on the frame and the records only, never on the workers, so a resumed
+    run finds the same batches.
+    """
+    per_record = 8 * n_time * (3 * (n_storeys + 1) + 2 * n_storeys + 1 + 5)
+    return int(max(1, min(DEFAULT_BATCH_SIZE, BATCH_BYTES // per_record)))
+
+
 def plan_suite(cfg, *, method: str | None = None, dt: float | None = None, storage: Storage | None = None,
-               batch_size: int = DEFAULT_BATCH_SIZE) -> Suite:
+               batch_size: int | None = None) -> Suite:
     """Expand a config into the jobs and batches of a suite.
 
     Parameters
@@ -297,8 +312,8 @@ def plan_suite(cfg, *, method: str | None = None, dt: float | None = None, stora
         Overrides of ``[analysis] method`` and ``dt`` (command-line options).
     storage : Storage, optional
         What the results keep of the histories.
-    batch_size : int
-        Jobs per batch.
+    batch_size : int, optional
+        Jobs per batch (default :func:`default_batch_size`).
 
     Returns
     -------
@@ -313,7 +328,7 @@ def plan_suite(cfg, *, method: str | None = None, dt: float | None = None, stora
     """
     storage = storage or Storage()
     storage.check(cfg.frame.n_storeys)
-    if int(batch_size) != batch_size or batch_size < 1:
+    if batch_size is not None and (int(batch_size) != batch_size or batch_size < 1):
         raise InputError(f"batch size must be a whole number >= 1, got {batch_size!r}")
     excitations = _read_records(cfg)
     excitations += [Excitation(name=load.name, source=f"[[harmonic]] #{spec.index}", kind="harmonic", load=load)
@@ -336,6 +351,8 @@ def plan_suite(cfg, *, method: str | None = None, dt: float | None = None, stora
     for frame in frames.values():
         integrator.prepare(frame, plan.dt)
     kwargs["dt"] = plan.dt              # every batch uses the step chosen over the whole suite
+    if batch_size is None:
+        batch_size = default_batch_size(cfg.frame.n_storeys, plan.n_time)
 
     base = _unique([e.name for e in excitations])
     several = len(scales) > 1

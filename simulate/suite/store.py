@@ -41,12 +41,12 @@ import xarray as xr
 from simulate.files import fsync_folder, write_atomic
 from simulate._version import __version__
 from simulate.errors import InputError
-from simulate.results.netcdf import write_dataset, write_uncompressed
+from simulate.results.netcdf import COMPRESS_HISTORIES, _encoding, history_layout, is_history, write_working
 from simulate.suite.executors import InProcess
 from simulate.suite.jobs import FRAME, TWIN, Storage, run_batch
 from simulate.suite.progress import SuiteProgress
 
-__all__ = ["RunFolder", "run_suite", "open_results", "collect", "write_results", "default_run_dir", "remove_run_folder",
+__all__ = ["RunFolder", "run_suite", "open_results", "collect", "write_combined", "default_run_dir", "remove_run_folder",
            "variant_output", "failure_reason", "MANIFEST", "BATCH_FOLDER"]
 
 MANIFEST = "manifest.json"
@@ -73,20 +73,6 @@ def variant_output(output, variant: str) -> Path:
 
 
 # ------------------------------------------------------------------ durable writes
-def write_results(ds: xr.Dataset, path) -> Path:
-    """Write a combined results dataset durably (``simulate.write_dataset``).
-
-    Histories may be dask arrays reading the batch files: they are computed here,
-    in order, by dask's synchronous scheduler.
-    """
-    try:
-        import dask
-    except ImportError:
-        return write_dataset(ds, path)
-    with dask.config.set(scheduler="synchronous"):
-        return write_dataset(ds, path)
-
-
 def _write_json(path: Path, data: dict) -> None:
     write_atomic(path, lambda tmp: tmp.write_text(json.dumps(data, indent=1) + "\n", encoding="utf-8"))
 
@@ -233,8 +219,8 @@ class RunFolder:
 
     def save(self, batch_id: str, ds: xr.Dataset) -> Path:
         """Write one finished batch durably; from then on its jobs count as done."""
-        # batch files are working files: uncompressed, the combined results file is compressed
-        return write_atomic(self.batch_path(batch_id), lambda tmp: write_uncompressed(ds, tmp))
+        # batch files are working files: contiguous and uncompressed, the fastest to write and read
+        return write_atomic(self.batch_path(batch_id), lambda tmp: write_working(ds, tmp))
 
 
 def _manifest(suite) -> dict:
@@ -348,19 +334,22 @@ def _history_bytes(path: Path, n_records: int, time_axis) -> int:
     return per_step * n_records * len(time_axis)
 
 
-def _open_batch(path: Path, time_axis, lazy: bool) -> tuple[xr.Dataset, xr.Dataset]:
+def _open_batch(path: Path, time_axis, lazy: bool, histories: bool = True) -> tuple[xr.Dataset, xr.Dataset]:
     """One batch file on the suite's common time axis, text as Python str; and the open file.
 
     Per-record and frame variables are read at once (they are small); with ``lazy``
     the histories are dask arrays that read the file when computed, else they are
     read too and the file is closed. Histories of batches shorter than the suite
     are padded with NaN, as ``simulate.run`` pads records shorter than the longest.
+    Without ``histories`` they are left out (the ``time`` coordinate stays).
     """
     source = xr.open_dataset(path, engine="netcdf4")
     n_time = None if time_axis is None else len(time_axis)
     variables = {}
     for name, var in source.variables.items():
-        timed = "time" in var.dims and name != "time"
+        timed = is_history(name, var.dims)
+        if timed and not histories:
+            continue
         if name == "time" and time_axis is not None:
             var = xr.Variable(("time",), np.asarray(time_axis), var.attrs)
         elif timed and lazy:
@@ -434,29 +423,8 @@ def _pieces(jobs: list[dict], finished: set[str], batch_jobs: dict) -> list[tupl
     return pieces
 
 
-def open_results(run_dir, variant: str = FRAME, partial: bool = False, lazy: bool | None = None) -> xr.Dataset:
-    """The results of a run folder as one dataset, records in job order.
-
-    Parameters
-    ----------
-    run_dir : path
-        A run folder made by ``swaysim run`` (or :func:`run_suite`).
-    variant : {"frame", "linear-twin"}
-        Which analyses: the frame's, or its linear twin's.
-    partial : bool
-        Leave out the jobs whose batch has not finished instead of refusing.
-    lazy : bool, optional
-        Keep the histories on disk as dask arrays until they are used. Default: when
-        dask is installed and the histories would take more than :data:`LAZY_BYTES`
-        of memory; otherwise everything is read into memory.
-
-    Returns
-    -------
-    xarray.Dataset
-        The schema of ``simulate.run``: jobs whose record file could not be read are
-        rows with status ``failed: <reason>`` and missing values. ``close()`` closes
-        the batch files.
-    """
+def _layout(run_dir, variant: str, partial: bool):
+    """The run folder, the pieces of ``variant`` in job order and the suite's time axis."""
     folder = RunFolder.open(run_dir)
     m = folder.manifest
     jobs = [row for row in m["jobs"] if row["variant"] == variant]
@@ -473,18 +441,51 @@ def open_results(run_dir, variant: str = FRAME, partial: bool = False, lazy: boo
     time_axis = storage.time(int(settings["n_time"]), float(settings["analysis"]["dt"]))
     batch_jobs = {b["id"]: b["jobs"] for b in folder.batches(variant)}
     pieces = _pieces(jobs, finished, batch_jobs)
-    if lazy is None:
-        first = next((rest[0] for kind, *rest in pieces if kind == "batch"), None)
-        size = 0 if first is None else _history_bytes(folder.batch_path(first), len(jobs), time_axis)
+    if not any(kind == "batch" for kind, *_ in pieces):
+        raise InputError(f"{folder.path}: no analysis of {variant!r} has finished yet")
+    return folder, jobs, pieces, time_axis
+
+
+def open_results(run_dir, variant: str = FRAME, partial: bool = False, lazy: bool | None = None,
+                 histories: bool = True) -> xr.Dataset:
+    """The results of a run folder as one dataset, records in job order.
+
+    Parameters
+    ----------
+    run_dir : path
+        A run folder made by ``swaysim run`` (or :func:`run_suite`).
+    variant : {"frame", "linear-twin"}
+        Which analyses: the frame's, or its linear twin's.
+    partial : bool
+        Leave out the jobs whose batch has not finished instead of refusing.
+    lazy : bool, optional
+        Keep the histories on disk as dask arrays until they are used. Default: when
+        dask is installed and the histories would take more than :data:`LAZY_BYTES`
+        of memory; otherwise everything is read into memory.
+    histories : bool
+        False leaves out every variable along ``time`` (envelopes, statuses and frame
+        properties only; the ``time`` coordinate stays).
+
+    Returns
+    -------
+    xarray.Dataset
+        The schema of ``simulate.run``: jobs whose record file could not be read are
+        rows with status ``failed: <reason>`` and missing values. ``close()`` closes
+        the batch files.
+    """
+    folder, jobs, pieces, time_axis = _layout(run_dir, variant, partial)
+    if not histories:
+        lazy = False
+    elif lazy is None:
+        first = next(rest[0] for kind, *rest in pieces if kind == "batch")
+        size = _history_bytes(folder.batch_path(first), len(jobs), time_axis)
         lazy = _have_dask() and size > LAZY_BYTES
     opened: dict[str, xr.Dataset] = {}
     sources: list[xr.Dataset] = []
     for kind, *rest in pieces:
         if kind == "batch" and rest[0] not in opened:
-            opened[rest[0]], source = _open_batch(folder.batch_path(rest[0]), time_axis, lazy)
+            opened[rest[0]], source = _open_batch(folder.batch_path(rest[0]), time_axis, lazy, histories)
             sources.append(source)
-    if not opened:
-        raise InputError(f"{folder.path}: no analysis of {variant!r} has finished yet")
     template = next(iter(opened.values()))
     parts = []
     for kind, *rest in pieces:
@@ -505,7 +506,79 @@ def open_results(run_dir, variant: str = FRAME, partial: bool = False, lazy: boo
     return combined
 
 
-def collect(run_dir, output, partial: bool = False) -> dict[str, Path]:
+def _append_histories(path: Path, folder: RunFolder, pieces: list[tuple], compress: bool) -> None:
+    """Add the histories of ``pieces`` to the results file at ``path``, one batch at a time.
+
+    The file holds every other variable already (and so the ``time`` dimension of
+    the suite); each history is created (``history_layout``) and filled from the
+    batch files in job order. Memory stays at one batch's history of one variable,
+    whatever the size of the suite. Rows of jobs that never ran and time steps
+    after a batch's last one are NaN, as in ``simulate.run``; every value is
+    written once (the library's pre-filling is switched off).
+    """
+    import netCDF4
+
+    first = next(folder.batch_path(rest[0]) for kind, *rest in pieces if kind == "batch")
+    with netCDF4.Dataset(path, "a") as out:
+        out.set_fill_off()
+        with netCDF4.Dataset(first) as src:
+            names = [name for name, var in src.variables.items() if is_history(name, var.dimensions)]
+            for name in names:
+                var = src.variables[name]
+                shape = tuple(len(out.dimensions[d]) for d in var.dimensions)
+                target = out.createVariable(name, var.dtype, var.dimensions, fill_value=np.nan,
+                                            **history_layout(shape, compress))
+                target.setncatts({key: var.getncattr(key) for key in var.ncattrs() if key != "_FillValue"})
+        row = 0
+        for kind, *rest in pieces:
+            if kind == "failed":
+                for name in names:
+                    target = out.variables[name]
+                    target[row:row + len(rest[0])] = np.full((len(rest[0]),) + target.shape[1:], np.nan,
+                                                             dtype=target.dtype)
+                row += len(rest[0])
+                continue
+            batch, start, stop = rest
+            with netCDF4.Dataset(folder.batch_path(batch)) as src:
+                src.set_auto_mask(False)
+                for name in names:
+                    target = out.variables[name]
+                    values = src.variables[name][start:stop]
+                    if values.shape[1] < target.shape[1]:
+                        pad = [(0, 0)] * values.ndim
+                        pad[1] = (0, target.shape[1] - values.shape[1])
+                        values = np.pad(values, pad, constant_values=np.nan)
+                    target[row:row + stop - start] = values
+            row += stop - start
+
+
+def write_combined(run_dir, variant: str, target, partial: bool = False,
+                   compress_histories: bool = COMPRESS_HISTORIES, attrs: dict | None = None) -> Path:
+    """Write the results of ``variant`` in a run folder to ``target``, durably and atomically.
+
+    Per-record and frame variables are combined in memory (they are small); the
+    histories are copied batch by batch (:func:`_append_histories`), so the memory
+    needed does not grow with the suite. The file reads back as
+    :func:`open_results` gives the folder.
+    """
+    folder, jobs, pieces, time_axis = _layout(run_dir, variant, partial)
+    small = open_results(folder.path, variant, partial=partial, histories=False)
+    if attrs:
+        small.attrs.update(attrs)
+
+    def write(tmp: Path) -> None:
+        small.to_netcdf(tmp, engine="netcdf4", format="NETCDF4", encoding=_encoding(small))
+        if time_axis is not None:
+            _append_histories(tmp, folder, pieces, compress_histories)
+
+    try:
+        return write_atomic(Path(target), write)
+    finally:
+        small.close()
+
+
+def collect(run_dir, output, partial: bool = False,
+            compress_histories: bool = COMPRESS_HISTORIES) -> dict[str, Path]:
     """Write the results of a run folder: ``output`` for the frame, ``<stem>-linear.nc`` for its twin.
 
     Returns the written file of each variant.
@@ -515,16 +588,14 @@ def collect(run_dir, output, partial: bool = False) -> dict[str, Path]:
     targets = {variant: variant_output(output, variant) for variant in variants}
     written = {}
     for variant in variants:
-        ds = open_results(folder.path, variant, partial=partial)
-        try:
-            if TWIN in targets:
-                if variant == FRAME:
-                    ds.attrs["linear_twin_results_file"] = targets[TWIN].name
-                else:
-                    ds.attrs["nonlinear_results_file"] = targets[FRAME].name
-            written[variant] = write_results(ds, targets[variant])
-        finally:
-            ds.close()
+        attrs = {}
+        if TWIN in targets:
+            if variant == FRAME:
+                attrs["linear_twin_results_file"] = targets[TWIN].name
+            else:
+                attrs["nonlinear_results_file"] = targets[FRAME].name
+        written[variant] = write_combined(folder.path, variant, targets[variant], partial=partial,
+                                          compress_histories=compress_histories, attrs=attrs)
     return written
 
 

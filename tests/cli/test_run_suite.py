@@ -22,14 +22,18 @@ def invoke(*args):
 
 
 def test_two_workers_give_the_same_file_as_one(tmp_path):
+    """One thread, two threads and two worker processes write identical results."""
     config = write_case(tmp_path / "case", 3)
-    for name, extra in (("one", []), ("two", ["--workers", "2"])):
+    for name, extra in (("one", ["--workers", "1"]), ("two", ["--workers", "2"]),
+                        ("processes", ["--workers", "2", "--processes"])):
         (tmp_path / name).mkdir()
         result = invoke("run", config, "-o", tmp_path / name / "out.nc", "--batch-size", "1", *extra)
         assert result.exit_code == 0, result.output
         assert result.stderr == ""
         assert sorted(p.name for p in (tmp_path / name).iterdir()) == ["out.nc"]
-    assert_same_results(ss.read_dataset(tmp_path / "two" / "out.nc"), ss.read_dataset(tmp_path / "one" / "out.nc"))
+    one = ss.read_dataset(tmp_path / "one" / "out.nc")
+    for name in ("two", "processes"):
+        assert_same_results(ss.read_dataset(tmp_path / name / "out.nc"), one)
 
 
 def test_mixed_failures_are_explained_and_the_suite_finishes(tmp_path):

@@ -46,16 +46,35 @@ def test_envelopes_alone_round_trip(results, tmp_path):
     xr.testing.assert_identical(back, env)
 
 
-def test_file_is_compressed(results, tmp_path):
-    """Smooth histories compress with zlib and byte shuffling: the whole file is smaller
-    than the raw float64 bytes of its history variables alone (common practice for
-    NetCDF-4/HDF5 storage)."""
-    path = ss.write_dataset(results, tmp_path / "run.nc")
+def test_file_is_compressed_when_asked(results, tmp_path):
+    """Smooth histories compress with zlib and byte shuffling: with compress_histories the
+    whole file is smaller than the raw float64 bytes of its history variables alone
+    (common practice for NetCDF-4/HDF5 storage), and it reads back identical."""
+    path = ss.write_dataset(results, tmp_path / "run.nc", compress_histories=True)
     raw = sum(results[name].size * 8 for name in HISTORIES)
     assert os.path.getsize(path) < raw
+    xr.testing.assert_identical(ss.read_dataset(path), results)
 
 
-def _partial_writer(ds, path):
+def test_storage_layout(results, tmp_path):
+    """By default histories are stored uncompressed and contiguous; compressed, in chunks of one
+    record; envelopes and other small variables are always zlib-compressed (read back with
+    netCDF4's own inspection)."""
+    import netCDF4
+
+    path = ss.write_dataset(results, tmp_path / "run.nc")
+    with netCDF4.Dataset(path) as nc:
+        for name in (*HISTORIES, "ground_acceleration"):
+            var = nc.variables[name]
+            assert var.filters()["zlib"] is False
+            assert var.chunking() == "contiguous"
+        assert nc.variables["peak_drift_ratio"].filters()["zlib"] is True
+    with netCDF4.Dataset(ss.write_dataset(results, tmp_path / "z.nc", compress_histories=True)) as nc:
+        assert nc.variables["displacement"].filters()["zlib"] is True
+        assert nc.variables["displacement"].chunking() == [1, *nc.variables["displacement"].shape[1:]]
+
+
+def _partial_writer(ds, path, compress_histories=False):
     with open(path, "wb") as fh:
         fh.write(b"\x89HDF\r\n\x1a\n partial")
     raise OSError("disk full")

@@ -52,7 +52,8 @@ def test_scheduler_option_mistakes(tmp_path):
     runner = CliRunner()
     for extra, words in ((["--scheduler", "127.0.0.1"], "expected an address"),
                          (["--scheduler", "tcp://127.0.0.1:1", "--cluster", "local"], "give one of them"),
-                         (["--scheduler", "tcp://127.0.0.1:1", "--workers", "2"], "--workers")):
+                         (["--scheduler", "tcp://127.0.0.1:1", "--workers", "2"], "--workers"),
+                         (["--cluster", "local", "--processes"], "--processes")):
         result = runner.invoke(main, ["run", str(config), "-o", str(tmp_path / "r.nc")] + extra)
         assert result.exit_code == 2, result.output
         assert words in result.stderr and len(result.stderr.strip().splitlines()) == 1

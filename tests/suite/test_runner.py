@@ -160,6 +160,28 @@ def test_unreadable_record_is_a_failed_row_and_the_rest_runs(tmp_path):
     assert_same_results(ds.isel(record=[0, 2]).drop_attrs(), good.drop_attrs())
 
 
+@pytest.mark.parametrize("compress", [False, True])
+def test_written_results_file_equals_the_combined_folder(tmp_path, compress):
+    """The results file, written batch by batch with NaN for failed rows and for the steps
+    after a short batch's end, reads back identical to open_results of the folder, which
+    equals simulate.run over the readable records (xarray.testing.assert_identical)."""
+    config = write_case(tmp_path, 5, files='["r01.txt", "r02.txt", "broken.txt", "r03.txt", "r04.txt", '
+                                           '"r05.txt"]')
+    (tmp_path / "broken.txt").write_text("0.00 0.0\n0.01 abc\n")
+    cfg = ss.load_config(config)
+    folder = run_suite(plan_suite(cfg, batch_size=2), tmp_path / "run", quiet=True)
+    combined = open_results(folder.path).load()
+    written = ss.read_dataset(collect(folder.path, tmp_path / "out.nc", compress_histories=compress)["frame"])
+    assert_same_results(written, combined)
+    assert np.isnan(written["displacement"].isel(record=2).values).all()
+    # r01 is the shortest record and sits in a batch of its own length: NaN after its last step
+    n = int(written["n_steps"].values[0])
+    assert np.isnan(written["displacement"].isel(record=0).values[n:]).all()
+    good = ss.run(cfg.frame, [ss.read_record(tmp_path / f"r0{k}.txt", units="g") for k in range(1, 6)],
+                  **dict(cfg.run_kwargs(), scale=1.0))
+    assert_same_results(written.isel(record=[0, 1, 3, 4, 5]).drop_attrs(), good.drop_attrs())
+
+
 def test_no_readable_record_is_a_user_error(tmp_path):
     config = write_case(tmp_path, 0, files='["broken.txt"]')
     (tmp_path / "broken.txt").write_text("# nothing here\n")
