@@ -150,15 +150,13 @@ def _newmark_nonlinear(m, h, law, P, S_init, kg, cd_in, co_in, C, dense, tangent
 
     for j in range(n):
         X[j, _A] = (-m[j] * ag[0] + (force[0, j] if has_force else 0.0)) / m[j]
+        X[j, _P1] = -X[j, _M] * ag[0] + (force[0, j] if has_force else 0.0)
     status = 0
     n_valid = nsteps
     iterations = 0
     substepped = 0
     for i in range(nsteps):
         if i > 0:
-            for j in range(n):
-                X[j, _P0] = -X[j, _M] * ag[i - 1] + (force[i - 1, j] if has_force else 0.0)
-                X[j, _P1] = -X[j, _M] * ag[i] + (force[i, j] if has_force else 0.0)
             nsub = 1
             depth = 0
             while True:
@@ -178,6 +176,11 @@ def _newmark_nonlinear(m, h, law, P, S_init, kg, cd_in, co_in, C, dense, tangent
                     th0 = ksub / nsub
                     th1 = (ksub + 1) / nsub
                     for j in range(n):
+                        if depth == 0:
+                            # first attempt at step i: the load at its start is the one
+                            # at the end of step i - 1
+                            X[j, _P0] = X[j, _P1]
+                            X[j, _P1] = -X[j, _M] * ag[i] + (force[i, j] if has_force else 0.0)
                         p0 = X[j, _P0]
                         p1 = X[j, _P1]
                         X[j, _PP] = p0 + th0 * (p1 - p0)
