@@ -61,6 +61,9 @@ loads) and where the results go (``[output]``)::
     files = ["../motions/*.txt"]      # relative to the config file's folder
     units = "g"                       # g | m/s2 | cm/s2
     dt = 0.01                         # only for one-value-per-line files
+    # or, instead of files/units/dt: a suite file (TOML or CSV) listing the records with
+    # their own options (see simulate.excitation.suites)
+    # suite = "far_field.toml"
 
     [[harmonic]]                      # any number
     kind = "ground"                   # or "force"
@@ -93,8 +96,9 @@ from pathlib import Path
 import numpy as np
 
 from simulate.errors import ConfigError, InputError
-from simulate.excitation import FloorForces, Record, harmonic_floor_force, harmonic_ground_motion, read_record
+from simulate.excitation import FloorForces, Record, harmonic_floor_force, harmonic_ground_motion
 from simulate.excitation.record import normalise_units
+from simulate.excitation.suites import SuiteEntry, suite_entries
 from simulate.kernels import METHODS, NEWMARK_SCHEMES
 from simulate.laws import LAWS
 from simulate.model import (
@@ -129,7 +133,7 @@ ANALYSIS_KEYS = (("method", "scheme", "gamma", "beta", "dt", "tail", "scale", "c
 DEFAULT_COLLAPSE_DRIFT = 0.10
 #: Largest ``max_depth``: beyond 2^20 substeps a step is better rerun with a smaller dt.
 MAX_SPLIT_DEPTH = 20
-RECORDS_KEYS = ("files", "units", "dt")
+RECORDS_KEYS = ("files", "suite", "units", "dt")
 HARMONIC_KEYS = ("kind", "name", "amplitude", "units", "frequency", "mode", "duration", "dt",
                  "ramp", "floors")
 OUTPUT_KEYS = ("file",)
@@ -345,6 +349,9 @@ class Config:
     record_units : str or None
         Units of the record files; None lets each file's own header decide (else g).
     record_dt : float or None
+    record_entries : tuple of SuiteEntry
+        The record files with their reading options (from ``files``, or from the
+        suite file of ``[records] suite``), checked to exist but not read.
     harmonics : tuple of Harmonic
     output : Path or None
         ``[output] file``, relative to the current working folder.
@@ -364,6 +371,7 @@ class Config:
     record_files: tuple[Path, ...] = ()
     record_units: str | None = None
     record_dt: float | None = None
+    record_entries: tuple[SuiteEntry, ...] = ()
     harmonics: tuple[Harmonic, ...] = ()
     output: Path | None = None
     strength_from: str | None = None
@@ -371,7 +379,7 @@ class Config:
 
     @property
     def n_excitations(self) -> int:
-        return len(self.record_files) + len(self.harmonics)
+        return len(self.record_entries) + len(self.harmonics)
 
     def excitations(self) -> list[Record | FloorForces]:
         """Read the record files and build the harmonic loads, records first.
@@ -383,9 +391,7 @@ class Config:
         simulate.errors.ConfigError
             For a harmonic load that cannot be built.
         """
-        loads: list[Record | FloorForces] = [
-            read_record(path, dt=self.record_dt, units=self.record_units) for path in self.record_files
-        ]
+        loads: list[Record | FloorForces] = [entry.read_one() for entry in self.record_entries]
         for spec in self.harmonics:
             loads.append(self._harmonic(spec))
         return loads
@@ -417,7 +423,7 @@ class Config:
                     f"{self.path}: [analysis] scale: lists {len(self.analysis.scales)} factors; one run "
                     "of simulate.run takes one factor per record (swaysim run runs every factor)")
             scale = self.analysis.scale
-        return [float(scale)] * len(self.record_files) + [1.0] * len(self.harmonics)
+        return [float(scale)] * len(self.record_entries) + [1.0] * len(self.harmonics)
 
     def attributes(self) -> dict:
         """Dataset attributes that tie results to this config."""
@@ -499,7 +505,7 @@ def load_config(path) -> Config:
     if analysis.linear_twin and frame.is_linear:
         raise ConfigError(f"{source}: [analysis] linear_twin: the building is already linear (no yield "
                           f"strength, no gravity load in [building]); there is no twin to compare with")
-    files, units, record_dt = _records(source, doc, path.parent)
+    files, units, record_dt, entries = _records(source, doc, path.parent)
     harmonics = _harmonics(source, doc, frame, has_records=bool(files))
     output = None
     table = _table(source, doc, "output", OUTPUT_KEYS)
@@ -514,7 +520,7 @@ def load_config(path) -> Config:
         gravity_from = building["gravity"]
     return Config(path=path, text=text, sha256=hashlib.sha256(raw).hexdigest(), title=title,
                   frame=frame, analysis=analysis, record_files=files, record_units=units,
-                  record_dt=record_dt, harmonics=harmonics, output=output,
+                  record_dt=record_dt, record_entries=entries, harmonics=harmonics, output=output,
                   strength_from=next((key for key in YIELD_KEYS if key in building), None),
                   gravity_from=gravity_from)
 
@@ -857,10 +863,13 @@ def _scales(a: _Table) -> tuple[float, ...]:
     return tuple(values)
 
 
-def _records(source: str, doc: dict, folder: Path) -> tuple[tuple[Path, ...], str | None, float | None]:
+def _records(source: str, doc: dict, folder: Path):
+    """``[records]``: the record files, their units and dt, and the files with their reading options."""
     r = _table(source, doc, "records", RECORDS_KEYS)
     if r is None:
-        return (), None, None
+        return (), None, None, ()
+    if r.get("suite") is not None:
+        return _suite_records(r, folder)
     # without [records] units, each file's own "# units = ..." header decides (else g)
     units = r.string("units", None)
     if units is not None:
@@ -872,7 +881,7 @@ def _records(source: str, doc: dict, folder: Path) -> tuple[tuple[Path, ...], st
     patterns = r.get("files")
     if patterns is None:
         raise r.error("files", "missing; expected a list of record files or patterns such as "
-                               "[\"motions/*.txt\"]")
+                               "[\"motions/*.txt\"], or a suite file (suite = \"records.toml\")")
     if isinstance(patterns, str):
         patterns = [patterns]
     if not isinstance(patterns, list) or not patterns:
@@ -894,7 +903,30 @@ def _records(source: str, doc: dict, folder: Path) -> tuple[tuple[Path, ...], st
         for match in matches:
             if Path(match) not in files:
                 files.append(Path(match))
-    return tuple(files), units, dt
+    options = {key: value for key, value in (("dt", dt), ("units", units)) if value is not None}
+    entries = tuple(SuiteEntry(path=path, options=options) for path in files)
+    return tuple(files), units, dt, entries
+
+
+def _suite_records(r, folder: Path):
+    """``[records] suite = "FILE"``: the suite file's entries (it gives units and dt itself)."""
+    for key in ("files", "units", "dt"):
+        if r.get(key) is not None:
+            raise r.error(key, "give either a suite file or files (with units and dt), not both; "
+                               "a suite file sets units and dt per record or in its [defaults]")
+    name = r.string("suite")
+    if not name.strip():
+        raise r.error("suite", "expected the name of a suite file (.toml or .csv)")
+    path = Path(os.path.normpath(os.path.join(folder, os.path.expanduser(name))))
+    if not path.is_file():
+        what = "is a folder" if path.is_dir() else "not found"
+        raise r.error("suite", f"{name!r} {what} (looked for {path})")
+    try:
+        entries = tuple(suite_entries(path))
+    except ConfigError as exc:
+        raise r.error("suite", str(exc)) from None
+    files = tuple(dict.fromkeys(entry.path for entry in entries))
+    return files, None, None, entries
 
 
 def _harmonics(source: str, doc: dict, frame: ShearFrame, has_records: bool) -> tuple[Harmonic, ...]:

@@ -230,6 +230,66 @@ def test_records_resolved_from_the_config_folder(tmp_path):
     assert cfg.scale_factors() == [1.5, 1.5, 1.5, 1.0, 1.0]
 
 
+SUITE_CONFIG = """
+    [building]
+    storeys = 2
+    mass = 3e5
+    height = 3.0
+    stiffness = 4e8
+    [records]
+    {records}
+"""
+
+
+def test_records_from_a_suite_file(tmp_path):
+    """[records] suite: the suite file's entries with their own units, dt and scale, in its order."""
+    motions = tmp_path / "motions"
+    motions.mkdir()
+    sine_file(motions / "b.txt")
+    sine_file(motions / "a.txt")
+    (motions / "one.txt").write_text("\n".join(f"{0.1 * np.sin(2 * np.pi * 2.0 * k * 0.01):.8f}"
+                                                for k in range(201)) + "\n")
+    write(tmp_path, """
+        [defaults]
+        units = "g"
+        [[record]]
+        file = "motions/b.txt"
+        scale = 2.0
+        [[record]]
+        file = "motions/one.txt"
+        dt = 0.01
+        units = "cm/s2"
+        [[record]]
+        file = "motions/a.txt"
+    """, name="set.toml")
+    cfg = load_config(write(tmp_path, SUITE_CONFIG.format(records='suite = "set.toml"')))
+    assert [p.name for p in cfg.record_files] == ["b.txt", "one.txt", "a.txt"]
+    b, one, a = cfg.excitations()
+    np.testing.assert_allclose(b.acceleration, 2.0 * a.acceleration, rtol=1e-15)
+    assert (one.units, a.units, b.units) == ("cm/s2", "g", "g") and one.dt == a.dt == 0.01
+    np.testing.assert_array_equal(one.acceleration, a.acceleration)   # same numbers, other units
+    assert cfg.scale_factors() == [1.0, 1.0, 1.0]
+    assert b.metadata["suite"].endswith("set.toml")
+
+
+@pytest.mark.parametrize("records, words", [
+    ('suite = "absent.toml"', "[records] suite: 'absent.toml' not found"),
+    ('suite = "set.toml"\nunits = "g"', "[records] units: give either a suite file or files"),
+    ('suite = "set.toml"\nfiles = ["x.txt"]', "[records] files: give either a suite file or files"),
+    ('suite = "bad.toml"', "[records] suite: "),
+])
+def test_suite_file_mistakes_name_the_config_key(tmp_path, records, words):
+    write(tmp_path, '[[record]]\nfile = "nothing-*.txt"\n', name="bad.toml")
+    sine_file(tmp_path / "r.txt")
+    write(tmp_path, '[[record]]\nfile = "r.txt"\n', name="set.toml")
+    with pytest.raises(ConfigError) as info:
+        load_config(write(tmp_path, SUITE_CONFIG.format(records=records)))
+    message = str(info.value)
+    assert words in message and "\n" not in message
+    if "bad" in records:
+        assert "bad.toml:1: [[record]] 1: " in message and "matches no file" in message
+
+
 def test_record_errors_pass_through(tmp_path):
     """A bad record file raises RecordError naming that file (and line), not the config."""
     (tmp_path / "r.txt").write_text("0.0 0.1\n0.01 nan\n0.02 0.1\n")

@@ -57,6 +57,7 @@ import math
 import os
 import re
 import tomllib
+from dataclasses import dataclass, field
 from numbers import Integral, Real
 from pathlib import Path
 
@@ -64,7 +65,7 @@ from simulate.errors import ConfigError, RecordError, where
 from simulate.excitation.readers import read_records
 from simulate.excitation.record import Record
 
-__all__ = ["read_suite", "expand_records", "RECORD_KEYS", "DEFAULT_KEYS"]
+__all__ = ["read_suite", "suite_entries", "SuiteEntry", "expand_records", "RECORD_KEYS", "DEFAULT_KEYS"]
 
 #: Keys of a ``[[record]]`` entry (TOML) or columns of a CSV suite.
 RECORD_KEYS = ("file", "dt", "units", "scale", "name", "component",
@@ -128,8 +129,58 @@ def _files(pattern: str, base_dir: Path, prefix: str) -> list[Path]:
     return [Path(full)]
 
 
-def _entry_records(entry: dict, base_dir: Path, prefix: str, suite: str | None) -> list[Record]:
-    """Read the records of one checked entry (defaults already merged in)."""
+@dataclass(frozen=True)
+class SuiteEntry:
+    """One record file of a suite, with its reading options; :meth:`read` reads it.
+
+    Listing the files (and checking that they exist) is kept apart from reading
+    them, so that a suite runner can turn a file that cannot be read into a
+    failed analysis instead of stopping.
+    """
+
+    path: Path
+    prefix: str = ""                             # where the file was listed, for messages
+    options: dict = field(default_factory=dict)  # dt, units, name and the reading options
+    scale: float | None = None
+    component: str | None = None
+    suite: str | None = None                     # the suite file that listed it
+
+    def read(self) -> list[Record]:
+        """The records of the file (RecordError naming the entry and the file)."""
+        options = dict(self.options)
+        dt, units, name = options.pop("dt", None), options.pop("units", None), options.pop("name", None)
+        records = []
+        try:
+            for rec in read_records(self.path, dt, units, name, **options):
+                if self.scale is not None:
+                    rec = rec.scaled(self.scale)
+                metadata = dict(rec.metadata)
+                if self.suite is not None:
+                    metadata["suite"] = self.suite
+                if self.component is not None:
+                    metadata["component"] = self.component
+                records.append(Record(acceleration=rec.acceleration, dt=rec.dt, units=rec.units,
+                                      name=rec.name, metadata=metadata))
+        except RecordError as exc:
+            if not self.prefix:
+                raise
+            raise RecordError(f"{self.prefix}: {exc}") from None
+        return records
+
+
+    def read_one(self) -> Record:
+        """The one record of the file (RecordError when it holds several, as ``read_record``)."""
+        records = self.read()
+        if len(records) != 1:
+            names = ", ".join(repr(rec.name) for rec in records)
+            where_from = f"{self.prefix}: " if self.prefix else ""
+            raise RecordError(f"{where_from}{self.path}: holds {len(records)} records ({names}); "
+                              "a suite runs one record per file")
+        return records[0]
+
+
+def _entries(entry: dict, base_dir: Path, prefix: str, suite: str | None) -> list[SuiteEntry]:
+    """The files of one checked entry (defaults already merged in); missing files are ConfigErrors."""
     if "file" not in entry:
         raise ConfigError(f"{prefix}: file: missing; expected a record file or pattern")
     paths = _files(entry["file"], base_dir, prefix)
@@ -138,26 +189,15 @@ def _entry_records(entry: dict, base_dir: Path, prefix: str, suite: str | None) 
             f"{prefix}: name {entry['name']!r} is given but file {entry['file']!r} matches "
             f"{len(paths)} files; a name labels one record"
         )
-    options = {key: entry[key] for key in ("format", "skip", "layout", "column", "time_column")
-               if key in entry}
-    records = []
-    for path in paths:
-        try:
-            read = read_records(path, entry.get("dt"), entry.get("units"), entry.get("name"),
-                                **options)
-            for rec in read:
-                if "scale" in entry:
-                    rec = rec.scaled(entry["scale"])
-                metadata = dict(rec.metadata)
-                if suite is not None:
-                    metadata["suite"] = suite
-                if "component" in entry:
-                    metadata["component"] = entry["component"]
-                records.append(Record(acceleration=rec.acceleration, dt=rec.dt, units=rec.units,
-                                      name=rec.name, metadata=metadata))
-        except RecordError as exc:
-            raise RecordError(f"{prefix}: {exc}") from None
-    return records
+    options = {key: entry[key] for key in ("dt", "units", "name", "format", "skip", "layout", "column",
+                                           "time_column") if key in entry}
+    return [SuiteEntry(path=path, prefix=prefix, options=options, scale=entry.get("scale"),
+                       component=entry.get("component"), suite=suite) for path in paths]
+
+
+def _entry_records(entry: dict, base_dir: Path, prefix: str, suite: str | None) -> list[Record]:
+    """Read the records of one checked entry (defaults already merged in)."""
+    return [rec for item in _entries(entry, base_dir, prefix, suite) for rec in item.read()]
 
 
 def expand_records(patterns, base_dir=".", *, source=None, **defaults) -> list[Record]:
@@ -230,6 +270,16 @@ def read_suite(path) -> list[Record]:
         ``RecordError`` for record files (naming the suite entry and the record
         file).
     """
+    return [rec for entry in suite_entries(path) for rec in entry.read()]
+
+
+def suite_entries(path) -> list[SuiteEntry]:
+    """The record files a suite file lists, with their options, checked but not read.
+
+    Raises ``ConfigError`` for the suite file's own mistakes, a missing record file
+    and a glob that matches nothing; reading the files (:meth:`SuiteEntry.read`)
+    raises ``RecordError`` for their content.
+    """
     path = Path(path)
     source = str(path)
     suffix = path.suffix.lower()
@@ -244,13 +294,13 @@ def read_suite(path) -> list[Record]:
     except (OSError, UnicodeDecodeError) as exc:
         raise ConfigError(f"{source}: cannot be read ({getattr(exc, 'strerror', None) or exc})") from None
     reader = _toml_suite if suffix == ".toml" else _csv_suite
-    records = reader(text, source, path.parent)
-    if not records:
+    entries = reader(text, source, path.parent)
+    if not entries:
         raise ConfigError(f"{source}: lists no records")
-    return records
+    return entries
 
 
-def _toml_suite(text: str, source: str, base_dir: Path) -> list[Record]:
+def _toml_suite(text: str, source: str, base_dir: Path) -> list[SuiteEntry]:
     try:
         doc = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
@@ -277,7 +327,7 @@ def _toml_suite(text: str, source: str, base_dir: Path) -> list[Record]:
         prefix = where(source, f"[[record]] {k}", line)
         merged = dict(defaults)
         merged.update(_checked(entry, prefix, RECORD_KEYS))
-        records.extend(_entry_records(merged, base_dir, prefix, source))
+        records.extend(_entries(merged, base_dir, prefix, source))
     return records
 
 
@@ -298,7 +348,7 @@ def _csv_cell(key: str, cell: str, prefix: str):
     return cell
 
 
-def _csv_suite(text: str, source: str, base_dir: Path) -> list[Record]:
+def _csv_suite(text: str, source: str, base_dir: Path) -> list[SuiteEntry]:
     lines = text.splitlines()
     # comment lines become blank so csv.reader keeps counting physical lines
     cleaned = ["" if line.lstrip().startswith("#") else line for line in lines]
@@ -333,6 +383,6 @@ def _csv_suite(text: str, source: str, base_dir: Path) -> list[Record]:
                  for key, cell in zip(columns, cells) if cell != ""}
         if "file" not in entry:
             raise ConfigError(f"{prefix}: file: empty; expected a record file or pattern")
-        records.extend(_entry_records(_checked(entry, prefix, RECORD_KEYS), base_dir, prefix, source))
+        records.extend(_entries(_checked(entry, prefix, RECORD_KEYS), base_dir, prefix, source))
     return records
 

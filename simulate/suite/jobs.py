@@ -22,6 +22,7 @@ from __future__ import annotations
 import contextlib
 import dataclasses
 import hashlib
+import json
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -29,7 +30,7 @@ import numpy as np
 import xarray as xr
 
 from simulate.errors import InputError, RecordError
-from simulate.excitation import FloorForces, Record, read_record
+from simulate.excitation import FloorForces, Record
 from simulate.kernels.methods import make_method
 from simulate.suite.plan import make_plan
 from simulate.suite.run import run
@@ -273,16 +274,23 @@ def _unique(names) -> list[str]:
 
 
 def _read_records(cfg) -> list[Excitation]:
-    """Each record file of ``cfg`` read on its own; an unreadable one is kept with its reason."""
+    """Each record file of ``cfg`` read on its own; an unreadable one is kept with its reason.
+
+    The digest of each covers the file's bytes and the options it is read with (a
+    suite file's units, dt, scale...), so a resumed run notices a change of either.
+    """
     out = []
-    for path in cfg.record_files:
-        path = Path(path)
+    for entry in cfg.record_entries:
+        path = Path(entry.path)
         try:
-            digest = hashlib.sha256(path.read_bytes()).hexdigest()
+            digest = hashlib.sha256(path.read_bytes())
+            digest.update(json.dumps([entry.options, entry.scale, entry.component], sort_keys=True,
+                                     default=str).encode())
+            digest = digest.hexdigest()
         except OSError:
             digest = None
         try:
-            rec = read_record(path, dt=cfg.record_dt, units=cfg.record_units)
+            rec = entry.read_one()
         except RecordError as exc:
             out.append(Excitation(name=path.stem, source=str(path), kind="record", load=None,
                                   sha256=digest, failure=str(exc)))

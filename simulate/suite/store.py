@@ -52,7 +52,7 @@ __all__ = ["RunFolder", "run_suite", "open_results", "collect", "write_combined"
 MANIFEST = "manifest.json"
 BATCH_FOLDER = "batches"
 #: Identifies the layout of the run folder (bumped when it changes).
-FOLDER_FORMAT = "swaysim run folder 1"
+FOLDER_FORMAT = "swaysim run folder 2"
 
 #: Histories larger than this (bytes in memory) stay on disk as dask arrays when combined.
 LAZY_BYTES = 512 * 2 ** 20
@@ -173,7 +173,8 @@ class RunFolder:
             before = old_jobs[row["id"]]
             if before.get("sha256") != row["sha256"]:
                 raise InputError(f"{lead}record file {row['source']} changed since the run in {self.path} "
-                                 f"started; restore it, or {fix}")
+                                 f"started (its contents, or its options in the suite file); restore it, "
+                                 f"or {fix}")
             if before.get("batch") != row["batch"]:
                 raise InputError(f"{lead}{self.path} groups the jobs into other batches (--batch-size); "
                                  f"use the same batch size, or {fix}")

@@ -182,6 +182,29 @@ def test_written_results_file_equals_the_combined_folder(tmp_path, compress):
     assert_same_results(written.isel(record=[0, 1, 3, 4, 5]).drop_attrs(), good.drop_attrs())
 
 
+def test_suite_file_entries_run_with_their_options(tmp_path):
+    """[records] suite: each entry is a job read with its own options; an entry scaled by 2 in
+    the suite file gives twice the response of a linear frame (linearity, common practice);
+    a corrupt entry is a failed row; a changed entry scale is noticed on resume."""
+    config = write_case(tmp_path, 2, strength="")
+    (tmp_path / "broken.txt").write_text("0.00 0.0\n0.01 abc\n")
+    (tmp_path / "set.toml").write_text('[defaults]\nunits = "g"\n[[record]]\nfile = "r01.txt"\n'
+                                       '[[record]]\nfile = "broken.txt"\n'
+                                       '[[record]]\nfile = "r01.txt"\nname = "r01x2"\nscale = 2.0\n')
+    text = config.read_text().replace('files = ["r*.txt"]\nunits = "g"', 'suite = "set.toml"')
+    config.write_text(text)
+    cfg = ss.load_config(config)
+    folder = run_suite(plan_suite(cfg), tmp_path / "run", quiet=True)
+    ds = open_results(folder.path).load()
+    assert list(ds["record"].values) == ["r01", "broken", "r01x2"]
+    assert str(ds["status"].values[1]).startswith("failed: ") and "broken.txt:2" in str(ds["status"].values[1])
+    np.testing.assert_allclose(ds["peak_drift_ratio"].values[2], 2.0 * ds["peak_drift_ratio"].values[0],
+                               rtol=1e-12)
+    (tmp_path / "set.toml").write_text((tmp_path / "set.toml").read_text().replace("scale = 2.0", "scale = 3.0"))
+    with pytest.raises(ss.InputError, match="r01.txt changed since the run"):
+        RunFolder.prepare(tmp_path / "run", plan_suite(ss.load_config(config)), resume=True)
+
+
 def test_no_readable_record_is_a_user_error(tmp_path):
     config = write_case(tmp_path, 0, files='["broken.txt"]')
     (tmp_path / "broken.txt").write_text("# nothing here\n")
