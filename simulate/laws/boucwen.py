@@ -31,7 +31,12 @@ def _g(z, sgn_dd, A, beta, gamma, n):
     az = abs(z)
     sz = 1.0 if z >= 0.0 else -1.0
     c = beta * (1.0 if sgn_dd * z >= 0.0 else -1.0) + gamma
-    zn1 = az ** (n - 1.0) if n != 1.0 else 1.0
+    if n == 1.0:
+        zn1 = 1.0
+    elif n == 2.0:
+        zn1 = az        # az ** 1.0: pow returns a representable result exactly; no library call
+    else:
+        zn1 = az ** (n - 1.0)
     return A - az * zn1 * c, -n * zn1 * sz * c
 
 
