@@ -35,7 +35,9 @@ from simulate.results.netcdf import WRITERS
 from simulate.settings import STANDARD_GRAVITY
 from simulate.suite import run as run_analysis
 from simulate.suite.executors import make_executor
-from simulate.suite.jobs import BATCH_BYTES, DEFAULT_BATCH_SIZE, FRAME, KEEP_CHOICES, TWIN, Storage, plan_suite
+from simulate.suite.jobs import (
+    BATCH_BYTES, DEFAULT_BATCH_SIZE, FRAME, KEEP_CHOICES, PRECISION_CHOICES, TWIN, Storage, plan_suite,
+)
 from simulate.suite.store import RunFolder, collect, default_run_dir, remove_run_folder, run_suite, variant_output
 
 #: Width of the nonlinear header lines before they wrap.
@@ -133,6 +135,10 @@ def floor_list(ctx, param, value):
 @click.option("--decimate", type=click.IntRange(min=1), default=1, metavar="K",
               help="Keep every K-th time step of the histories. Envelopes, residual drifts and "
                    "statuses are always computed from the full-rate histories.")
+@click.option("--precision", type=click.Choice(PRECISION_CHOICES), default="double", show_default=True,
+              help="Storage precision of the histories: 'single' (float32, about 7 significant "
+                   "digits) halves the bytes written. Envelopes always come from the double-precision "
+                   "analysis.")
 @click.option("--compress", is_flag=True,
               help="zlib-compress the histories in the results file too (envelopes always are): "
                    "about 15 % smaller, several times slower to write.")
@@ -142,7 +148,7 @@ def floor_list(ctx, param, value):
 def run_command(config: Path, output: Path | None, method: str | None, dt: float | None,
                 run_dir: Path | None, resume: bool, workers: int | None, processes: bool,
                 scheduler: str | None, cluster: str | None, batch_size: int | None, keep: str, floors,
-                decimate: int, compress: bool, quiet: bool):
+                decimate: int, precision: str, compress: bool, quiet: bool):
     """Run the records and harmonic loads of CONFIG through its building.
 
     Writes the full response histories and envelopes to a NetCDF file and
@@ -168,8 +174,8 @@ def run_command(config: Path, output: Path | None, method: str | None, dt: float
     if twin_target is not None:
         _check_output(twin_target, f"{origin} (linear twin)")
 
-    storage = Storage(keep=keep, floors=floors, decimate=decimate)
-    storage.check(cfg.frame.n_storeys, names=("--keep", "--floors", "--decimate"))
+    storage = Storage(keep=keep, floors=floors, decimate=decimate, precision=precision)
+    storage.check(cfg.frame.n_storeys, names=("--keep", "--floors", "--decimate", "--precision"))
     suite = _plan(cfg, method, dt, storage, batch_size)
     kept = run_dir is not None
     folder = RunFolder.prepare(run_dir if kept else default_run_dir(target), suite, resume)

@@ -36,7 +36,7 @@ from simulate.suite.plan import make_plan
 from simulate.suite.run import run
 
 __all__ = ["Job", "Batch", "Storage", "Suite", "BatchSpec", "plan_suite", "run_batch",
-           "VARIANTS", "KEEP_CHOICES", "DEFAULT_BATCH_SIZE", "default_batch_size"]
+           "VARIANTS", "KEEP_CHOICES", "PRECISION_CHOICES", "DEFAULT_BATCH_SIZE", "default_batch_size"]
 
 #: Variant names: the frame as given and its linear twin.
 FRAME, TWIN = "frame", "linear-twin"
@@ -54,6 +54,9 @@ BATCH_BYTES = 64 * 2 ** 20
 #: What a results file keeps: full histories, or the envelopes only.
 KEEP_CHOICES = ("histories", "envelopes")
 
+#: Storage precision of the histories: float64 or float32.
+PRECISION_CHOICES = ("double", "single")
+
 #: Dimensions of the histories when only some floors (storeys) are kept.
 HISTORY_DIMS = {"floor": "history_floor", "storey": "history_storey"}
 
@@ -67,17 +70,25 @@ class Storage:
     keeps the histories of these floors and of the storeys with the same
     numbers only, along the dimensions ``history_floor`` and ``history_storey``
     (the envelopes keep every floor and storey). ``decimate=K`` keeps every K-th
-    time step of the histories. Envelopes, residual drifts and status always
-    come from the full-rate, all-floor histories before anything is dropped.
+    time step of the histories. ``precision="single"`` stores them as float32
+    (about seven significant digits, half the bytes to write and keep).
+    Envelopes, residual drifts and status always come from the full-rate,
+    all-floor, double-precision histories before anything is dropped.
     """
 
     keep: str = "histories"
     floors: tuple[int, ...] | None = None
     decimate: int = 1
+    precision: str = "double"
 
-    def check(self, n_floors: int, names=("keep", "floors", "decimate")) -> None:
+    def check(self, n_floors: int, names=("keep", "floors", "decimate", "precision")) -> None:
         """Raise InputError for a value that does not fit a frame with ``n_floors`` floors."""
-        keep, floors, decimate = names
+        keep, floors, decimate, precision = names
+        if self.precision not in PRECISION_CHOICES:
+            raise InputError(f"{precision}: unknown value {self.precision!r}; choose one of "
+                             f"{', '.join(PRECISION_CHOICES)}")
+        if self.precision != "double" and self.keep == "envelopes":
+            raise InputError(f"{precision}: only used when histories are kept, not with {keep} envelopes")
         if self.keep not in KEEP_CHOICES:
             raise InputError(f"{keep}: unknown value {self.keep!r}; choose one of {', '.join(KEEP_CHOICES)}")
         if self.floors is not None:
@@ -97,7 +108,7 @@ class Storage:
 
     def as_dict(self) -> dict:
         return {"keep": self.keep, "floors": list(self.floors) if self.floors else None,
-                "decimate": int(self.decimate)}
+                "decimate": int(self.decimate), "precision": self.precision}
 
     def attributes(self) -> dict:
         """Dataset attributes saying what was kept (none when everything was)."""
@@ -110,7 +121,10 @@ class Storage:
                 attrs["history_floors"] = ",".join(str(f) for f in self.floors)
             if self.decimate > 1:
                 attrs["history_decimation"] = int(self.decimate)
-            if attrs:
+            if self.precision == "single":
+                attrs["history_precision"] = ("single (float32, about 7 significant digits); envelopes "
+                                              "and statuses come from the double-precision analysis")
+            if self.floors or self.decimate > 1:
                 attrs["histories_kept"] = (
                     "part: " + (f"one time step in {self.decimate}" if self.decimate > 1 else "every time step")
                     + (f", floors and storeys {attrs['history_floors']}" if self.floors else ", every floor")
@@ -138,6 +152,9 @@ class Storage:
                     {k: v for k, v in ds.coords.items() if k not in HISTORY_DIMS.values()})
             if self.decimate > 1:
                 ds = ds.isel(time=slice(None, None, int(self.decimate)))
+            if self.precision == "single":
+                ds = ds.assign({name: ds[name].astype(np.float32) for name in timed
+                                if ds[name].dtype.kind == "f"})
         ds.attrs.update(self.attributes())
         return ds
 

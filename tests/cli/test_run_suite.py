@@ -87,7 +87,8 @@ def test_keep_floors_decimate_shape_the_file(tmp_path):
     full = tmp_path / "full.nc"
     assert invoke("run", config, "-o", full).exit_code == 0
     ref = ss.read_dataset(full)
-    cases = {"env.nc": ["--keep", "envelopes"], "floors.nc": ["--floors", "1,3"], "dec.nc": ["--decimate", "5"]}
+    cases = {"env.nc": ["--keep", "envelopes"], "floors.nc": ["--floors", "1,3"], "dec.nc": ["--decimate", "5"],
+             "single.nc": ["--precision", "single", "--compress"]}
     for name, extra in cases.items():
         result = invoke("run", config, "-o", tmp_path / name, *extra)
         assert result.exit_code == 0, result.output
@@ -106,6 +107,13 @@ def test_keep_floors_decimate_shape_the_file(tmp_path):
     np.testing.assert_array_equal(dec["time"].values, ref["time"].values[::5])
     np.testing.assert_array_equal(dec["velocity"].values, ref["velocity"].values[:, ::5])
     assert dec.attrs["history_decimation"] == 5
+    single = ss.read_dataset(tmp_path / "single.nc")
+    assert single["velocity"].dtype == np.float32
+    np.testing.assert_array_equal(single["velocity"].values, ref["velocity"].values.astype(np.float32))
+    import netCDF4
+
+    with netCDF4.Dataset(tmp_path / "single.nc") as nc:
+        assert nc.variables["velocity"].dtype == np.float32 and nc.variables["velocity"].filters()["zlib"]
 
 
 def test_storage_option_mistakes_name_the_option(tmp_path):
@@ -113,7 +121,8 @@ def test_storage_option_mistakes_name_the_option(tmp_path):
     for extra, words in ((["--floors", "1,7"], ["--floors", "floor 7", "1..3"]),
                          (["--floors", "a,b"], ["--floors"]),
                          (["--keep", "envelopes", "--decimate", "2"], ["--decimate", "envelopes"]),
-                         (["--decimate", "0"], ["--decimate"])):
+                         (["--decimate", "0"], ["--decimate"]),
+                         (["--keep", "envelopes", "--precision", "single"], ["--precision", "envelopes"])):
         result = invoke("run", config, "-o", tmp_path / "x.nc", *extra)
         assert result.exit_code == 2, result.output
         for word in words:

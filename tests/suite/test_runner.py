@@ -221,7 +221,7 @@ def test_storage_options_reduce_the_histories_only(tmp_path):
     full = ss.run(cfg.frame, cfg.excitations(), **cfg.run_kwargs())
     envelope_names = [n for n, v in full.data_vars.items() if "time" not in v.dims]
     for storage in (Storage(keep="envelopes"), Storage(floors=(1, 3)), Storage(decimate=4),
-                    Storage(floors=(2,), decimate=3)):
+                    Storage(floors=(2,), decimate=3), Storage(decimate=2, precision="single")):
         folder = run_suite(plan_suite(cfg, storage=storage, batch_size=2), tmp_path / f"run{id(storage)}",
                            quiet=True)
         ds = open_results(folder.path).load()
@@ -233,6 +233,11 @@ def test_storage_options_reduce_the_histories_only(tmp_path):
             continue
         floors = list(storage.floors or (1, 2, 3))
         want = full.isel(time=slice(None, None, storage.decimate))
+        if storage.precision == "single":
+            # float32 histories are the double-precision ones rounded once (numpy astype)
+            assert ds["displacement"].dtype == np.float32 and ds["energy_input"].dtype == np.float32
+            assert "float32" in ds.attrs["history_precision"]
+            want = want.assign({n: v.astype(np.float32) for n, v in want.data_vars.items() if "time" in v.dims})
         np.testing.assert_array_equal(ds["time"].values, want["time"].values)
         np.testing.assert_array_equal(ds["ground_acceleration"].values, want["ground_acceleration"].values)
         if storage.floors:
@@ -249,7 +254,9 @@ def test_storage_mistakes_name_the_option():
     for storage, words in ((Storage(floors=(4,)), ["floors", "floor 4", "1..3"]),
                            (Storage(decimate=0), ["decimate"]),
                            (Storage(keep="everything"), ["keep", "'everything'"]),
-                           (Storage(keep="envelopes", decimate=2), ["decimate", "envelopes"])):
+                           (Storage(keep="envelopes", decimate=2), ["decimate", "envelopes"]),
+                           (Storage(precision="half"), ["precision", "'half'"]),
+                           (Storage(keep="envelopes", precision="single"), ["precision", "envelopes"])):
         with pytest.raises(ss.InputError) as info:
             storage.check(3)
         for word in words:
