@@ -40,19 +40,13 @@ def history_layout(shape, compress: bool = COMPRESS_HISTORIES) -> dict:
     return {"zlib": True, "complevel": COMPRESSION_LEVEL, "shuffle": True, "chunksizes": (1,) + tuple(shape[1:])}
 
 
-def _encoding(ds: xr.Dataset, compress_histories: bool = COMPRESS_HISTORIES, working: bool = False) -> dict:
-    """Encoding of every float variable: small ones zlib-compressed, histories as asked.
-
-    ``working``: a short-lived working file (a suite's batch files), every variable
-    uncompressed and contiguous, the fastest layout to write and to read back whole.
-    """
+def encoding(ds: xr.Dataset, compress_histories: bool = COMPRESS_HISTORIES) -> dict:
+    """Encoding of every float variable: small ones zlib-compressed, histories as asked."""
     enc = {}
     for name, var in ds.variables.items():
         if var.dtype.kind != "f" or var.ndim == 0:
             continue
-        if working:
-            enc[name] = {"zlib": False, "contiguous": True}
-        elif is_history(name, var.dims) and var.dims[0] == "record" and var.shape[0] > 0:
+        if is_history(name, var.dims) and var.dims[0] == "record" and var.shape[0] > 0:
             enc[name] = history_layout(var.shape, compress_histories)
         else:
             enc[name] = {"zlib": True, "complevel": COMPRESSION_LEVEL, "shuffle": True}
@@ -60,12 +54,7 @@ def _encoding(ds: xr.Dataset, compress_histories: bool = COMPRESS_HISTORIES, wor
 
 
 def _write_netcdf(ds: xr.Dataset, path: Path, compress_histories: bool = COMPRESS_HISTORIES) -> None:
-    ds.to_netcdf(path, engine="netcdf4", format="NETCDF4", encoding=_encoding(ds, compress_histories))
-
-
-def write_working(ds: xr.Dataset, path: Path) -> None:
-    """NetCDF-4 without zlib and without chunks, for short-lived working files (a suite's batches)."""
-    ds.to_netcdf(path, engine="netcdf4", format="NETCDF4", encoding=_encoding(ds, working=True))
+    ds.to_netcdf(path, engine="netcdf4", format="NETCDF4", encoding=encoding(ds, compress_histories))
 
 
 def _read_netcdf(path: Path) -> xr.Dataset:

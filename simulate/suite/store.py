@@ -5,9 +5,9 @@ Layout::
     RUN_DIR/
       manifest.json           config SHA-256, software version, settings, job list, batches, created
       batches/
-        frame-00000.nc        one NetCDF per finished batch (the records of its jobs)
-        frame-00001.nc
-        linear-twin-00000.nc  (with [analysis] linear_twin)
+        frame-00000.npz       one file per finished batch (the records of its jobs; suite/batchfile.py)
+        frame-00001.npz
+        linear-twin-00000.npz (with [analysis] linear_twin)
 
 A batch counts as finished only once its file is durably on disk: it is written
 to a temporary file in ``batches/``, flushed with fsync, renamed to its final
@@ -41,7 +41,8 @@ import xarray as xr
 from simulate.files import fsync_folder, write_atomic
 from simulate._version import __version__
 from simulate.errors import InputError
-from simulate.results.netcdf import COMPRESS_HISTORIES, _encoding, history_layout, is_history, write_working
+from simulate.results.netcdf import COMPRESS_HISTORIES, encoding, history_layout
+from simulate.suite.batchfile import SUFFIX, BatchFile, BatchFileError, write_batch
 from simulate.suite.executors import InProcess
 from simulate.suite.jobs import FRAME, TWIN, Storage, run_batch
 from simulate.suite.progress import SuiteProgress
@@ -96,7 +97,7 @@ class RunFolder:
         return self.path / BATCH_FOLDER
 
     def batch_path(self, batch_id: str) -> Path:
-        return self.batch_folder / f"{batch_id}.nc"
+        return self.batch_folder / f"{batch_id}{SUFFIX}"
 
     # -------------------------------------------------------- opening
     @classmethod
@@ -205,9 +206,9 @@ class RunFolder:
             if check:
                 labels = self._labels(batch)
                 try:
-                    with xr.open_dataset(path, engine="netcdf4") as ds:
-                        ok = [str(x) for x in ds["record"].values] == labels
-                except (OSError, ValueError, KeyError):
+                    with BatchFile(path) as batch_file:
+                        ok = [str(x) for x in batch_file.array("record")] == labels
+                except BatchFileError:
                     ok = False
                 if not ok:
                     continue
@@ -220,8 +221,7 @@ class RunFolder:
 
     def save(self, batch_id: str, ds: xr.Dataset) -> Path:
         """Write one finished batch durably; from then on its jobs count as done."""
-        # batch files are working files: contiguous and uncompressed, the fastest to write and read
-        return write_atomic(self.batch_path(batch_id), lambda tmp: write_working(ds, tmp))
+        return write_batch(ds, self.batch_path(batch_id))
 
 
 def _manifest(suite) -> dict:
@@ -287,7 +287,7 @@ def run_suite(suite, run_dir, *, resume: bool = False, executor=None, quiet: boo
     executor = executor or InProcess()
     folder.begin()
     done = folder.finished(check=True)
-    for stale in folder.batch_folder.glob("*.nc"):
+    for stale in folder.batch_folder.glob(f"*{SUFFIX}"):
         if stale.stem not in done:
             stale.unlink()          # a batch file that does not open with its records runs again
     pending = [b for b in suite.batches if b.id not in done]
@@ -295,8 +295,8 @@ def run_suite(suite, run_dir, *, resume: bool = False, executor=None, quiet: boo
     earlier_failures = 0
     for batch in suite.batches:
         if batch.id in done:
-            with xr.open_dataset(folder.batch_path(batch.id), engine="netcdf4") as ds:
-                earlier_failures += int((ds["status"].values.astype(str) != "ok").sum())
+            with BatchFile(folder.batch_path(batch.id)) as batch_file:
+                earlier_failures += int((batch_file.array("status").astype(str) != "ok").sum())
     failed = suite.failed_jobs()
     fn = run_batch if analyse is None else functools.partial(run_batch, analyse=analyse)
     with SuiteProgress(len(suite.jobs), done=done_jobs + len(failed), failures=earlier_failures,
@@ -328,46 +328,33 @@ def _history_bytes(path: Path, n_records: int, time_axis) -> int:
     """Memory the histories of ``n_records`` records would take, estimated from one batch file."""
     if time_axis is None:
         return 0
-    with xr.open_dataset(path, engine="netcdf4") as ds:
-        per_step = sum(var.dtype.itemsize * int(np.prod([ds.sizes[d] for d in var.dims
-                                                         if d not in ("record", "time")]))
-                       for name, var in ds.variables.items() if "time" in var.dims and name != "time")
+    with BatchFile(path) as batch_file:
+        per_step = 0
+        for name in batch_file.history_names():
+            info = batch_file.variables[name]
+            sizes = dict(zip(info["dims"], info["shape"]))
+            per_step += np.dtype(info["dtype"]).itemsize * int(np.prod(
+                [size for dim, size in sizes.items() if dim not in ("record", "time")]))
     return per_step * n_records * len(time_axis)
 
 
-def _open_batch(path: Path, time_axis, lazy: bool, histories: bool = True) -> tuple[xr.Dataset, xr.Dataset]:
-    """One batch file on the suite's common time axis, text as Python str; and the open file.
+def _open_batch(path: Path, time_axis, lazy: bool, histories: bool = True) -> xr.Dataset:
+    """One batch file on the suite's common time axis, text as Python str.
 
     Per-record and frame variables are read at once (they are small); with ``lazy``
     the histories are dask arrays that read the file when computed, else they are
-    read too and the file is closed. Histories of batches shorter than the suite
-    are padded with NaN, as ``simulate.run`` pads records shorter than the longest.
-    Without ``histories`` they are left out (the ``time`` coordinate stays).
+    read too. Histories of batches shorter than the suite are padded with NaN, as
+    ``simulate.run`` pads records shorter than the longest. Without ``histories``
+    they are left out (the ``time`` coordinate stays).
     """
-    source = xr.open_dataset(path, engine="netcdf4")
-    n_time = None if time_axis is None else len(time_axis)
-    variables = {}
-    for name, var in source.variables.items():
-        timed = is_history(name, var.dims)
-        if timed and not histories:
-            continue
-        if name == "time" and time_axis is not None:
-            var = xr.Variable(("time",), np.asarray(time_axis), var.attrs)
-        elif timed and lazy:
-            var = var.chunk({dim: -1 for dim in var.dims})
-        else:
-            var = xr.Variable(var.dims, var.values, var.attrs)
-        if var.dtype.kind in "SU":
-            var = xr.Variable(var.dims, var.values.astype(object), var.attrs)
-        if timed and n_time is not None and var.sizes["time"] < n_time:
-            var = var.pad({"time": (0, n_time - var.sizes["time"])}, constant_values=np.nan)
-        var.encoding = {}
-        variables[name] = var
-    coords = {name: variables.pop(name) for name in source.coords}
-    ds = xr.Dataset(variables, coords=coords, attrs=dict(source.attrs))
-    if not lazy:
-        source.close()
-    return ds, source
+    with BatchFile(path) as batch_file:
+        ds = batch_file.dataset(histories=histories, lazy=lazy)
+    if time_axis is None or "time" not in ds.dims:
+        return ds
+    n_time = len(time_axis)
+    if ds.sizes["time"] < n_time:
+        ds = ds.pad({"time": (0, n_time - ds.sizes["time"])}, constant_values=np.nan)
+    return ds.assign_coords(time=("time", np.asarray(time_axis), ds["time"].attrs))
 
 
 def _fill(var: xr.DataArray, n: int):
@@ -471,8 +458,8 @@ def open_results(run_dir, variant: str = FRAME, partial: bool = False, lazy: boo
     -------
     xarray.Dataset
         The schema of ``simulate.run``: jobs whose record file could not be read are
-        rows with status ``failed: <reason>`` and missing values. ``close()`` closes
-        the batch files.
+        rows with status ``failed: <reason>`` and missing values. Lazy histories
+        open their batch file each time they are read; nothing stays open.
     """
     folder, jobs, pieces, time_axis = _layout(run_dir, variant, partial)
     if not histories:
@@ -482,11 +469,9 @@ def open_results(run_dir, variant: str = FRAME, partial: bool = False, lazy: boo
         size = _history_bytes(folder.batch_path(first), len(jobs), time_axis)
         lazy = _have_dask() and size > LAZY_BYTES
     opened: dict[str, xr.Dataset] = {}
-    sources: list[xr.Dataset] = []
     for kind, *rest in pieces:
         if kind == "batch" and rest[0] not in opened:
-            opened[rest[0]], source = _open_batch(folder.batch_path(rest[0]), time_axis, lazy, histories)
-            sources.append(source)
+            opened[rest[0]] = _open_batch(folder.batch_path(rest[0]), time_axis, lazy, histories)
     template = next(iter(opened.values()))
     parts = []
     for kind, *rest in pieces:
@@ -503,7 +488,6 @@ def open_results(run_dir, variant: str = FRAME, partial: bool = False, lazy: boo
     attrs.pop("batch", None)
     attrs["created"] = datetime.now(timezone.utc).isoformat(timespec="seconds")
     combined.attrs = attrs
-    combined.set_close(lambda: [source.close() for source in sources])
     return combined
 
 
@@ -522,14 +506,14 @@ def _append_histories(path: Path, folder: RunFolder, pieces: list[tuple], compre
     first = next(folder.batch_path(rest[0]) for kind, *rest in pieces if kind == "batch")
     with netCDF4.Dataset(path, "a") as out:
         out.set_fill_off()
-        with netCDF4.Dataset(first) as src:
-            names = [name for name, var in src.variables.items() if is_history(name, var.dimensions)]
+        with BatchFile(first) as batch_file:
+            names = batch_file.history_names()
             for name in names:
-                var = src.variables[name]
-                shape = tuple(len(out.dimensions[d]) for d in var.dimensions)
-                target = out.createVariable(name, var.dtype, var.dimensions, fill_value=np.nan,
+                info = batch_file.variables[name]
+                shape = tuple(len(out.dimensions[d]) for d in info["dims"])
+                target = out.createVariable(name, np.dtype(info["dtype"]), tuple(info["dims"]), fill_value=np.nan,
                                             **history_layout(shape, compress))
-                target.setncatts({key: var.getncattr(key) for key in var.ncattrs() if key != "_FillValue"})
+                target.setncatts(info["attrs"])
         row = 0
         for kind, *rest in pieces:
             if kind == "failed":
@@ -540,11 +524,10 @@ def _append_histories(path: Path, folder: RunFolder, pieces: list[tuple], compre
                 row += len(rest[0])
                 continue
             batch, start, stop = rest
-            with netCDF4.Dataset(folder.batch_path(batch)) as src:
-                src.set_auto_mask(False)
+            with BatchFile(folder.batch_path(batch)) as batch_file:
                 for name in names:
                     target = out.variables[name]
-                    values = src.variables[name][start:stop]
+                    values = batch_file.array(name)[start:stop]
                     if values.shape[1] < target.shape[1]:
                         pad = [(0, 0)] * values.ndim
                         pad[1] = (0, target.shape[1] - values.shape[1])
@@ -568,7 +551,7 @@ def write_combined(run_dir, variant: str, target, partial: bool = False,
         small.attrs.update(attrs)
 
     def write(tmp: Path) -> None:
-        small.to_netcdf(tmp, engine="netcdf4", format="NETCDF4", encoding=_encoding(small))
+        small.to_netcdf(tmp, engine="netcdf4", format="NETCDF4", encoding=encoding(small))
         if time_axis is not None:
             _append_histories(tmp, folder, pieces, compress_histories)
 

@@ -19,6 +19,7 @@ from click.testing import CliRunner
 import simulate as ss
 from simulate.cli import main
 from simulate.suite.store import BATCH_FOLDER, MANIFEST
+from simulate.suite.batchfile import SUFFIX
 
 from .test_runner import assert_same_results, write_case
 
@@ -38,7 +39,7 @@ def kill_after_first_batch(config: Path, out: Path, run_dir: Path) -> int:
     try:
         deadline = time.monotonic() + 120.0
         while time.monotonic() < deadline and proc.poll() is None:
-            if batches.is_dir() and any(p.suffix == ".nc" for p in batches.iterdir()):
+            if batches.is_dir() and any(p.suffix == SUFFIX for p in batches.iterdir()):
                 break
             time.sleep(0.002)
         os.killpg(proc.pid, signal.SIGKILL)
@@ -66,14 +67,14 @@ def test_resume_after_sigkill_equals_an_uninterrupted_run(tmp_path):
         killed.mkdir(exist_ok=True)
         run_dir = killed / "out.run"
         code = kill_after_first_batch(config, killed / "out.nc", run_dir)
-        finished = sorted(p.name for p in (run_dir / BATCH_FOLDER).glob("*.nc"))
+        finished = sorted(p.name for p in (run_dir / BATCH_FOLDER).glob(f"*{SUFFIX}"))
         if code == -signal.SIGKILL and 0 < len(finished) < n_batches:
             break
     assert code == -signal.SIGKILL
     assert 0 < len(finished) < n_batches
     assert not (killed / "out.nc").exists()
     # a temporary file left by a write that was in flight is ignored and removed
-    stray = run_dir / BATCH_FOLDER / ".frame-00011.nc.abcd.part"
+    stray = run_dir / BATCH_FOLDER / ".frame-00011.npz.abcd.part"
     stray.write_bytes(b"half a file")
     before = {name: (run_dir / BATCH_FOLDER / name).read_bytes() for name in finished}
 
@@ -84,7 +85,7 @@ def test_resume_after_sigkill_equals_an_uninterrupted_run(tmp_path):
     # the batches that had finished were kept as they were, not run again
     for name, data in before.items():
         assert (run_dir / BATCH_FOLDER / name).read_bytes() == data
-    assert len(list((run_dir / BATCH_FOLDER).glob("*.nc"))) == n_batches
+    assert len(list((run_dir / BATCH_FOLDER).glob(f"*{SUFFIX}"))) == n_batches
     assert_same_results(ss.read_dataset(killed / "out.nc"), ss.read_dataset(whole / "out.nc"))
     assert "run folder" in result.stdout and "kept" in result.stdout
 
@@ -150,7 +151,7 @@ def test_an_interrupted_run_folder_is_continued_by_the_same_command(tmp_path, ex
         folder = run_suite(plan_suite(ss.load_config(config), batch_size=1), run_dir, quiet=True)
         folder.batch_path("frame-00001").unlink()
     else:
-        (run_dir / BATCH_FOLDER / "frame-00001.nc").unlink()
+        (run_dir / BATCH_FOLDER / f"frame-00001{SUFFIX}").unlink()
     result = CliRunner().invoke(main, args)
     assert result.exit_code == 0, result.output
     assert "continuing the run in" in result.stderr

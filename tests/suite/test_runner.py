@@ -17,6 +17,7 @@ import simulate as ss
 from simulate.suite import (
     InProcess, ProcessPool, Storage, collect, open_results, plan_suite, run_batch, run_suite,
 )
+from simulate.suite.batchfile import read_batch
 from simulate.suite.store import RunFolder
 
 from conftest import band_limited_acceleration
@@ -114,8 +115,8 @@ def test_process_pool_gives_the_same_bytes_as_one_worker(tmp_path):
     a, b = collect(one.path, tmp_path / "one.nc"), collect(two.path, tmp_path / "two.nc")
     assert_same_results(ss.read_dataset(a["frame"]), ss.read_dataset(b["frame"]))
     for batch in suite.batches:
-        x = ss.read_dataset(one.batch_path(batch.id))
-        y = ss.read_dataset(two.batch_path(batch.id))
+        x = read_batch(one.batch_path(batch.id))
+        y = read_batch(two.batch_path(batch.id))
         assert_same_results(x, y)
 
 
@@ -203,6 +204,24 @@ def test_suite_file_entries_run_with_their_options(tmp_path):
     (tmp_path / "set.toml").write_text((tmp_path / "set.toml").read_text().replace("scale = 2.0", "scale = 3.0"))
     with pytest.raises(ss.InputError, match="r01.txt changed since the run"):
         RunFolder.prepare(tmp_path / "run", plan_suite(ss.load_config(config)), resume=True)
+
+
+def test_a_damaged_batch_file_runs_again(tmp_path):
+    """A batch file cut short (as a machine crash during the write could leave it) or holding
+    other records does not count as finished: the resumed run computes that batch again and
+    the results equal those of the first run."""
+    config = write_case(tmp_path, 4)
+    suite = plan_suite(ss.load_config(config), batch_size=1)
+    folder = run_suite(suite, tmp_path / "run", quiet=True)
+    first = open_results(folder.path).load()
+    cut = folder.batch_path(suite.batches[1].id)
+    cut.write_bytes(cut.read_bytes()[: cut.stat().st_size // 2])
+    swapped = folder.batch_path(suite.batches[2].id)
+    swapped.write_bytes(folder.batch_path(suite.batches[3].id).read_bytes())
+    assert folder.finished(check=True) == {suite.batches[0].id, suite.batches[3].id}
+    again = run_suite(suite, tmp_path / "run", resume=True, quiet=True)
+    assert again.finished(check=True) == {b.id for b in suite.batches}
+    assert_same_results(open_results(again.path).load(), first)
 
 
 def test_no_readable_record_is_a_user_error(tmp_path):
