@@ -2,13 +2,13 @@
 
 Every run is a suite of jobs (``simulate.suite.jobs``): each record at each scale
 factor, and each harmonic load, through the frame (and its linear twin). The jobs
-run in batches in this process, in a process pool (``--workers``) or on a Dask
-cluster (``--scheduler``, ``--cluster local``); each finished batch is saved in
-the run folder (default ``<output stem>.run`` next to the output) before it
-counts as done, so ``--resume`` continues a run that was killed. When all jobs
-are done the results file is written and the default run folder is removed; a
-run folder given with ``--run-dir`` is kept (``swaysim collect`` rebuilds the
-results from it).
+run in batches on the cores of this process (``--workers``), in a process pool
+(``--processes``) or on a Dask cluster (``--scheduler``, ``--cluster local``);
+each finished batch is saved in the run folder (default ``<output stem>.run``
+next to the output) before it counts as done, so ``--resume`` continues a run
+that was killed. When all jobs are done the results file is written and the
+default run folder is removed; a run folder given with ``--run-dir`` is kept
+(``swaysim collect`` rebuilds the results from it).
 """
 
 from __future__ import annotations
