@@ -19,6 +19,10 @@ class RecordError(InputError):
     """A ground-motion record or load file cannot be used."""
 
 
+class StorageError(InputError):
+    """A file cannot be written for want of space (a full disk or quota): the user must make room."""
+
+
 def where(source: str | None, key: str | None = None, line: int | None = None) -> str:
     """Format a location prefix such as ``demo.toml: [building] mass`` or ``r1.txt:12``."""
     parts = source or "<input>"

@@ -9,12 +9,17 @@ file, and a temporary file that could not be finished is removed.
 
 from __future__ import annotations
 
+import errno
 import os
+import shutil
 import tempfile
 from pathlib import Path
 from typing import Callable
 
-from simulate.errors import InputError
+from simulate.errors import InputError, StorageError
+
+#: errno values that mean the disk (or the user's quota) is full.
+NO_SPACE = (errno.ENOSPC, errno.EDQUOT)
 
 
 def fsync_folder(folder: Path) -> None:
@@ -55,12 +60,35 @@ def write_atomic(path, write: Callable[[Path], None]) -> Path:
         os.umask(umask)
         os.chmod(tmp, 0o666 & ~umask)
         os.replace(tmp, path)
-    except BaseException:
+    except BaseException as exc:
         if os.path.exists(tmp):
             os.unlink(tmp)
+        if _no_space(exc) or _nearly_full(folder):
+            raise StorageError(f"{path}: no space left on the disk of {folder.resolve()} while writing it "
+                               "(nothing half-written was kept)") from exc
         raise
     fsync_folder(folder)
     return path
+
+
+def _nearly_full(folder: Path) -> bool:
+    """True when ``folder``'s disk has less than 16 MB free (libraries that report a full disk
+    only as a generic write error, such as HDF5, are understood this way)."""
+    try:
+        return shutil.disk_usage(folder).free < 16 * 2 ** 20
+    except OSError:
+        return False
+
+
+def _no_space(exc: BaseException) -> bool:
+    """True for an OSError (or one it was raised from) saying the disk or quota is full."""
+    while exc is not None:
+        if isinstance(exc, OSError) and exc.errno in NO_SPACE:
+            return True
+        if isinstance(exc, RuntimeError) and "No space left" in str(exc):   # HDF5 reports it as text
+            return True
+        exc = exc.__cause__ or exc.__context__
+    return False
 
 
 def write_text_atomic(path, text: str) -> Path:

@@ -27,7 +27,7 @@ from simulate.cli.tables import (
     spread, wrap,
 )
 from simulate.config import NEWMARK_SOLVER_KEYS, load_config
-from simulate.errors import ConfigError, InputError, RecordError
+from simulate.errors import ConfigError, InputError, RecordError, StorageError
 from simulate.kernels import METHODS
 from simulate.laws import LAWS
 from simulate.results.compare import compare
@@ -184,7 +184,11 @@ def run_command(config: Path, output: Path | None, method: str | None, dt: float
     with make_executor(workers, scheduler, cluster, processes=processes) as executor:
         # run_analysis is looked up here, at call time, so the analysis function can be swapped
         run_suite(suite, folder.path, folder=folder, executor=executor, quiet=quiet, analyse=run_analysis)
-    written = collect(folder.path, target, compress_histories=compress)
+    try:
+        written = collect(folder.path, target, compress_histories=compress)
+    except StorageError as exc:
+        raise StorageError(f"{exc}; every analysis is finished and kept in {folder.path}: make room, then "
+                           f"swaysim collect {folder.path} -o {target}") from exc
     ds = _open_written(written[FRAME])
     twin = _open_written(written[TWIN]) if TWIN in written else None
     try:

@@ -40,7 +40,7 @@ import xarray as xr
 
 from simulate.files import fsync_folder, write_atomic
 from simulate._version import __version__
-from simulate.errors import InputError
+from simulate.errors import InputError, StorageError
 from simulate.results.netcdf import COMPRESS_HISTORIES, encoding, history_layout
 from simulate.suite.batchfile import SUFFIX, BatchFile, BatchFileError, write_batch
 from simulate.suite.executors import InProcess
@@ -306,7 +306,13 @@ def run_suite(suite, run_dir, *, resume: bool = False, executor=None, quiet: boo
         specs = (suite.spec(batch, executor.threads) for batch in pending)
         for position, ds in executor.map(fn, specs):
             batch = pending[position]
-            folder.save(batch.id, ds)
+            try:
+                folder.save(batch.id, ds)
+            except StorageError as exc:
+                done_now = len(folder.finished(check=False))
+                kept = f"{done_now} finished batch{'es are' if done_now != 1 else ' is'} kept"
+                raise StorageError(f"{exc}; {kept} in {folder.path}: make room, then run the same command "
+                                   "again with --resume") from exc
             for r, status in enumerate(ds["status"].values):
                 if str(status) != "ok":
                     status, reason = failure_reason(ds, r)

@@ -148,3 +148,63 @@ def test_collect_writes_the_same_file_as_run(tmp_path):
     assert list(x["record"].values) == ["r01@1", "r01@0.5", "r02@1", "r02@0.5", "r03@1", "r03@0.5"]
     result = invoke("collect", tmp_path / "case", "-o", tmp_path / "x.nc")
     assert result.exit_code == 2 and "not a run folder" in result.stderr
+
+
+def test_full_disk_keeps_finished_batches_and_resume_completes(tmp_path, monkeypatch):
+    """A disk that fills up during the run (simulated: the third batch write fails with ENOSPC,
+    as the operating system reports it) stops the run with one line naming the run folder and
+    --resume, exit status 2; the finished batches stay, and resuming gives the same results as
+    a run that never stopped."""
+    import errno
+
+    import simulate.suite.batchfile as batchfile
+
+    config = write_case(tmp_path / "case", 4)
+    reference = tmp_path / "ref.nc"
+    assert invoke("run", config, "-o", reference, "--batch-size", "1").exit_code == 0
+    calls = {"n": 0}
+    savez = batchfile.np.savez
+
+    def filling(handle, **arrays):
+        calls["n"] += 1
+        if calls["n"] == 3:
+            raise OSError(errno.ENOSPC, "No space left on device")
+        return savez(handle, **arrays)
+
+    monkeypatch.setattr(batchfile.np, "savez", filling)
+    out, run_dir = tmp_path / "out.nc", tmp_path / "out.run"
+    result = invoke("run", config, "-o", out, "--batch-size", "1")
+    assert result.exit_code == 2, result.output
+    lines = result.stderr.strip().splitlines()
+    assert len(lines) == 1 and "no space left" in lines[0] and "2 finished batches are kept" in lines[0]
+    assert "--resume" in lines[0] and str(run_dir) in lines[0]
+    assert not out.exists() and len(list((run_dir / "batches").glob("*.npz"))) == 2
+    assert not list((run_dir / "batches").glob(".*.part"))
+    monkeypatch.setattr(batchfile.np, "savez", savez)
+    again = invoke("run", config, "-o", out, "--batch-size", "1", "--resume")
+    assert again.exit_code == 0, again.output
+    assert_same_results(ss.read_dataset(out), ss.read_dataset(reference))
+
+
+def test_full_disk_while_writing_the_results_file_keeps_the_run_folder(tmp_path, monkeypatch):
+    """When only the results file does not fit (simulated ENOSPC), every analysis stays in the
+    run folder and the one-line message says how to write the file later."""
+    import errno
+
+    import simulate.suite.store as store
+
+    config = write_case(tmp_path / "case", 2)
+
+    def full(*args, **kwargs):
+        raise OSError(errno.ENOSPC, "No space left on device")
+
+    monkeypatch.setattr(store, "_append_histories", full)
+    out = tmp_path / "out.nc"
+    result = invoke("run", config, "-o", out)
+    assert result.exit_code == 2, result.output
+    line = result.stderr.strip()
+    assert "\n" not in line and "no space left" in line and f"swaysim collect {tmp_path / 'out.run'}" in line
+    assert not out.exists() and (tmp_path / "out.run" / "manifest.json").is_file()
+    monkeypatch.undo()
+    assert invoke("collect", tmp_path / "out.run", "-o", out).exit_code == 0
+    assert ss.read_dataset(out).sizes["record"] == 2
