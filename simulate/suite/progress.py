@@ -3,7 +3,9 @@
 On a terminal a bar shows the analyses done, the failures so far and the time
 remaining. When stderr goes to a file (an overnight run under ``nohup``) a line
 ``swaysim: progress done=40/120 failed=2 remaining=0:05:10`` is written at most
-every :data:`LOG_INTERVAL` seconds instead. Each failed analysis gets one line::
+every :data:`LOG_INTERVAL` seconds instead, and a run that lasted that long ends
+with ``swaysim: finished done=120/120 failed=2 elapsed=0:14:03 (...)``. Each
+failed analysis gets one line::
 
     swaysim: failure job=frame/quake_a/1.0 record=quake_a status=collapsed reason="..."
 
@@ -84,10 +86,17 @@ class SuiteProgress:
                                             failures=self.failures)
         return self
 
-    def __exit__(self, *exc):
+    def __exit__(self, exc_type, *exc):
         if self._bar is not None:
             self._bar.stop()
             self._bar = None
+        elif exc_type is None and not self.quiet and time.monotonic() - self._started >= self.log_interval:
+            # a run long enough for progress lines closes them with one line
+            elapsed = time.monotonic() - self._started
+            ran = self.done - self._start_done
+            rate = f" ({ran / elapsed:.3g} analyses/s)" if ran and elapsed > 0 else ""
+            self._echo(f"swaysim: finished done={self.done}/{self.total} failed={self.failures} "
+                       f"elapsed={_clock(elapsed)}{rate}")
 
     def failure(self, job: str, record: str, status: str, reason: str) -> None:
         """Count one failure and write its line."""
