@@ -366,8 +366,26 @@ def write_text(text: str, path: Path) -> Path:
     return write_text_atomic(path, text)
 
 
+def load_results(path: Path):
+    """A results file, or the finished analyses of a run folder (a suite still running or interrupted).
+
+    Returns the dataset and the text naming its source.
+    """
+    if path.is_dir():
+        from simulate.suite.store import MANIFEST, RunFolder, open_results
+
+        if not (path / MANIFEST).is_file():
+            raise InputError(f"{path}: a folder, but not a run folder of swaysim run (no {MANIFEST})")
+        folder = RunFolder.open(path)
+        jobs = [row for row in folder.manifest["jobs"] if row["variant"] == "frame"]
+        ds = open_results(path, partial=True, histories=False).load()
+        source = f"{path} (run folder: {ds.sizes['record']} of {len(jobs)} analyses finished)"
+        return ds, source
+    return read_dataset(path), str(path)
+
+
 @click.command("summary", short_help="Suite statistics of a results file per storey and floor.")
-@click.argument("results", metavar="RESULTS.nc", type=click.Path(path_type=Path))
+@click.argument("results", metavar="RESULTS", type=click.Path(path_type=Path))
 @click.option("--format", "fmt", type=click.Choice(list(FORMATS)), default="table", show_default=True,
               help="table for reading; csv or json (every statistic, SI units) for machines.")
 @click.option("--limit", "limit_texts", multiple=True, metavar="NAME=VALUE",
@@ -380,7 +398,9 @@ def write_text(text: str, path: Path) -> Path:
               help="Write the summary to FILE (atomically) instead of the screen.")
 @debug_option
 def summary_command(results: Path, fmt: str, limit_texts, by: str | None, output: Path | None):
-    """Statistics over the records of RESULTS.nc, a file written by swaysim run.
+    """Statistics over the records of RESULTS: a file written by swaysim run, or a
+    run folder (--run-dir) of a suite still running or interrupted, whose finished
+    analyses are summarised.
 
     Per storey and floor: median, 84th percentile, dispersion (standard deviation
     of ln x) and maximum of the peak drift ratio, floor acceleration, residual drift
@@ -390,7 +410,7 @@ def summary_command(results: Path, fmt: str, limit_texts, by: str | None, output
     """
     if output is not None:
         check_output(output)
-    ds = read_dataset(results)
+    ds, source = load_results(results)
     try:
         envelope_quantities(ds)
     except InputError as exc:
@@ -401,7 +421,7 @@ def summary_command(results: Path, fmt: str, limit_texts, by: str | None, output
     except InputError as exc:
         # the file and the limits are checked above: what is left is the --by choice
         raise InputError(f"{results}: option --{exc}" if by is not None else f"{results}: {exc}") from None
-    text = FORMATS[fmt](stats, str(results))
+    text = FORMATS[fmt](stats, source)
     if output is None:
         click.echo(text, nl=False)
         return

@@ -307,3 +307,26 @@ def test_help_names_the_options():
     assert result.exit_code == 0
     for option in ("--format", "--limit", "--by", "-o"):
         assert re.search(rf"(^|\s){re.escape(option)}[\s,]", result.stdout)
+
+
+def test_run_folder_of_an_unfinished_suite(tmp_path):
+    """A run folder (a suite interrupted or still running) is summarised over its finished
+    analyses: the header says how many, and the medians equal numpy's on those envelopes."""
+    from simulate.suite import open_results, plan_suite, run_suite
+
+    from suite.test_runner import write_case
+
+    config = write_case(tmp_path / "case", 4)
+    suite = plan_suite(ss.load_config(config), batch_size=1)
+    folder = run_suite(suite, tmp_path / "run", quiet=True)
+    folder.batch_path(suite.batches[2].id).unlink()
+    result = invoke(tmp_path / "run", "--format", "json")
+    assert result.exit_code == 0, result.output
+    doc = json.loads(result.stdout)
+    assert doc["source"].endswith("(run folder: 3 of 4 analyses finished)")
+    ds = open_results(tmp_path / "run", partial=True)
+    x = ds["peak_drift_ratio"].values[[str(s) == "ok" for s in ds["status"].values]]
+    assert doc["status"]["analyses"] == 3
+    assert doc["quantities"]["peak_drift_ratio"]["statistics"]["median"] == np.median(x, axis=0).tolist()
+    other = invoke(tmp_path / "case")
+    assert other.exit_code == 2 and "not a run folder" in other.stderr
