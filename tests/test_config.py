@@ -230,6 +230,7 @@ def test_records_resolved_from_the_config_folder(tmp_path):
     assert cfg.scale_factors() == [1.5, 1.5, 1.5, 1.0, 1.0]
 
 
+#: A two-storey frame with the given [records] table.
 SUITE_CONFIG = """
     [building]
     storeys = 2
@@ -293,15 +294,7 @@ def test_suite_file_mistakes_name_the_config_key(tmp_path, records, words):
 def test_record_errors_pass_through(tmp_path):
     """A bad record file raises RecordError naming that file (and line), not the config."""
     (tmp_path / "r.txt").write_text("0.0 0.1\n0.01 nan\n0.02 0.1\n")
-    cfg = load_config(write(tmp_path, """
-        [building]
-        storeys = 2
-        mass = 3e5
-        height = 3.0
-        stiffness = 4e8
-        [records]
-        files = ["r.txt"]
-    """))
+    cfg = load_config(write(tmp_path, SUITE_CONFIG.format(records='files = ["r.txt"]')))
     with pytest.raises(RecordError) as info:
         cfg.excitations()
     assert not isinstance(info.value, ConfigError)
