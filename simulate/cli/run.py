@@ -344,12 +344,15 @@ def print_report(cfg, ds, written: Path, *, method_from_option: bool = False, lo
     frame = cfg.frame
     nonlinear = not frame.is_linear
     n = frame.n_storeys
-    n_rec, n_harm = len(cfg.record_files), len(cfg.harmonics)
+    n_rec, n_harm = len(cfg.record_entries), len(cfg.harmonics)
 
     if cfg.title:
         echo(cfg.title)
         echo()
     counts = f"{n_rec} record file{'s' if n_rec != 1 else ''}"
+    suites = sorted({entry.suite for entry in cfg.record_entries if entry.suite})
+    if suites:
+        counts += f" listed in {', '.join(Path(name).name for name in suites)}"
     if n_harm:
         counts += f" + {n_harm} harmonic load{'s' if n_harm != 1 else ''}"
     if len(cfg.analysis.scales) > 1:

@@ -208,3 +208,17 @@ def test_full_disk_while_writing_the_results_file_keeps_the_run_folder(tmp_path,
     monkeypatch.undo()
     assert invoke("collect", tmp_path / "out.run", "-o", out).exit_code == 0
     assert ss.read_dataset(out).sizes["record"] == 2
+
+
+def test_suite_file_config_runs_and_says_where_the_records_come_from(tmp_path):
+    """[records] suite: the header names the suite file; the per-record scale of the suite file
+    is applied (a linear frame's peaks scale with it, linearity: common practice)."""
+    config = write_case(tmp_path / "case", 1, strength="")
+    (tmp_path / "case" / "set.csv").write_text("file,name,scale,units\nr01.txt,plain,,g\nr01.txt,double,2.0,g\n")
+    config.write_text(config.read_text().replace('files = ["r*.txt"]\nunits = "g"', 'suite = "set.csv"'))
+    result = invoke("run", config, "-o", tmp_path / "out.nc")
+    assert result.exit_code == 0, result.output
+    assert "2 record files listed in set.csv" in " ".join(result.stdout.split())
+    ds = ss.read_dataset(tmp_path / "out.nc")
+    np.testing.assert_allclose(ds["peak_drift_ratio"].sel(record="double").values,
+                               2.0 * ds["peak_drift_ratio"].sel(record="plain").values, rtol=1e-12)
