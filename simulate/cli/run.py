@@ -423,18 +423,21 @@ def _linear_tables(cfg, ds, loads=None) -> None:
     drift = ds["peak_drift_ratio"].transpose("record", "storey").values
     ground = _ground(ds)
     kinds = ds["excitation"].values
+    scale_factor = ds["scale_factor"].values
+    n_steps = ds["n_steps"].values
+    base_shear, roof = ds["peak_base_shear"].values, ds["peak_roof_displacement"].values
     status = np.array([str(s) for s in ds["status"].values])
     ok = status == "ok"
     rows = []
     for r, label in enumerate(ds["record"].values):
         if not ok[r]:
             continue
-        pga = _pga(ds, r, ground, loads) if kinds[r] == "base-acceleration" else np.nan
+        pga = _pga(scale_factor, r, ground, loads) if kinds[r] == "base-acceleration" else np.nan
         worst = int(np.argmax(drift[r]))
         rows.append([
-            str(label), sig(pga), f"{(int(ds['n_steps'].values[r]) - 1) * ds.attrs['analysis_dt']:.2f}",
+            str(label), sig(pga), f"{(int(n_steps[r]) - 1) * ds.attrs['analysis_dt']:.2f}",
             percent(drift[r, worst]), str(worst + 1),
-            sig(ds["peak_base_shear"].values[r] / 1000.0), sig(ds["peak_roof_displacement"].values[r]),
+            sig(base_shear[r] / 1000.0), sig(roof[r]),
         ])
     echo()
     echo(render_table("Peaks per excitation", [
@@ -487,12 +490,13 @@ def _ground(ds):
     return ds["ground_acceleration"].transpose("record", "time").values
 
 
-def _pga(ds, r: int, ground, loads) -> float:
-    """Peak ground acceleration of record ``r`` in g: from the stored motion, else from the record."""
+def _pga(scale_factor, r: int, ground, loads) -> float:
+    """Peak ground acceleration of record ``r`` in g: from the stored motion, else from the record
+    times its ``scale_factor`` (the dataset's per-record array)."""
     if ground is not None:
         return np.nanmax(np.abs(ground[r])) / STANDARD_GRAVITY
     if loads is not None and loads[r] is not None:
-        scale = abs(float(ds["scale_factor"].values[r]))
+        scale = abs(float(scale_factor[r]))
         return float(np.max(np.abs(loads[r].to_si()))) * scale / STANDARD_GRAVITY
     return np.nan
 
@@ -551,15 +555,18 @@ def _nonlinear_tables(cfg, ds, loads) -> None:
     energy_error = ds["energy_balance_error"].values
     ductility = (ds["ductility"].transpose("record", "storey").values if "ductility" in ds
                  else np.full(drift.shape, np.nan))
+    n_steps = ds["n_steps"].values
+    scale_factor = ds["scale_factor"].values
+    base_shear = ds["peak_base_shear"].values
     rows = []
     for r, label in enumerate(labels):
         if kinds[r] != "base-acceleration":
             pga = np.nan
         elif not ok[r] and loads is not None:
             # the stored ground motion ends where the analysis stopped; the record's peak may come later
-            pga = _pga(ds, r, None, loads)
+            pga = _pga(scale_factor, r, None, loads)
         else:
-            pga = _pga(ds, r, ground, loads)
+            pga = _pga(scale_factor, r, ground, loads)
         if not np.isfinite(drift[r]).any():
             # the record could not be read: nothing was analysed
             rows.append([label, sig(pga), "-", "-", "-", "-", "-", "-", status[r].partition(":")[0]])
@@ -567,9 +574,9 @@ def _nonlinear_tables(cfg, ds, loads) -> None:
         worst = int(np.nanargmax(drift[r]))
         mu = np.nanmax(ductility[r]) if np.isfinite(ductility[r]).any() else np.nan
         rows.append([
-            label, sig(pga), f"{(int(ds['n_steps'].values[r]) - 1) * dt:.2f}",
+            label, sig(pga), f"{(int(n_steps[r]) - 1) * dt:.2f}",
             percent(drift[r, worst]), str(worst + 1), sig(mu),
-            sig(ds["peak_base_shear"].values[r] / 1000.0), energy_percent(energy_error[r]), status[r],
+            sig(base_shear[r] / 1000.0), energy_percent(energy_error[r]), status[r],
         ])
     echo()
     echo(render_table("Peaks per excitation", [
