@@ -31,9 +31,41 @@ def _numba_cache_dir() -> str | None:
     folder = root / digest.hexdigest()[:16]
     try:
         folder.mkdir(parents=True, exist_ok=True)
+        os.utime(folder)        # marks it as in use, for the pruning below
     except OSError:
         return None  # unwritable home: numba's default (__pycache__ beside the sources)
+    prune_caches(root, keep=folder)
     return str(folder)
+
+
+#: Cache folders of other source versions (an upgrade, an edit) unused this many days are removed.
+CACHE_KEEP_DAYS = 30
+
+
+def prune_caches(root: Path, keep: Path, days: float = CACHE_KEEP_DAYS) -> list[Path]:
+    """Remove the cache folders under ``root`` other than ``keep`` that no process used for ``days``.
+
+    A folder's modification time is set each time a process starts with it, so one
+    still in use by another installed version is kept. Returns the folders removed.
+    """
+    import shutil
+    import time
+
+    limit = time.time() - days * 86400.0
+    removed = []
+    try:
+        entries = list(root.iterdir())
+    except OSError:
+        return removed
+    for path in entries:
+        try:
+            if path == keep or not path.is_dir() or path.stat().st_mtime >= limit:
+                continue
+        except OSError:
+            continue
+        shutil.rmtree(path, ignore_errors=True)
+        removed.append(path)
+    return removed
 
 
 _CACHE_DIR = _numba_cache_dir()

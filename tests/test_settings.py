@@ -29,3 +29,26 @@ def test_cache_folder_is_keyed_by_the_sources(tmp_path):
 def test_user_cache_folder_wins(tmp_path):
     env = dict(os.environ, NUMBA_CACHE_DIR=str(tmp_path / "mine"))
     assert _cache_dir(env) == str(tmp_path / "mine")
+
+
+def test_cache_folders_of_other_sources_unused_for_30_days_are_removed(tmp_path):
+    """A process start removes cache folders of other source versions untouched for
+    CACHE_KEEP_DAYS and keeps recent ones (another installed version may still use them)."""
+    import time
+
+    from simulate.settings import CACHE_KEEP_DAYS
+
+    parent = tmp_path / "swaysim" / "numba"
+    old, recent = parent / "0123456789abcdef", parent / "fedcba9876543210"
+    for folder in (old, recent):
+        (folder / "sub").mkdir(parents=True)
+        (folder / "sub" / "kernel.nbc").write_bytes(b"compiled")
+    stale = time.time() - (CACHE_KEEP_DAYS + 1) * 86400.0
+    os.utime(old, (stale, stale))
+    env = {k: v for k, v in os.environ.items() if k != "NUMBA_CACHE_DIR"}
+    env["XDG_CACHE_HOME"] = str(tmp_path)
+    current = _cache_dir(env)
+    assert not old.exists() and recent.is_dir() and os.path.isdir(current)
+    # the folder in use is marked as used at every start, so it is never the stale one
+    os.utime(current, (stale, stale))
+    assert _cache_dir(env) == current and os.path.getmtime(current) > stale + 86400.0
