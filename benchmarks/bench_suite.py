@@ -66,7 +66,7 @@ units = "g"
 """
 
 
-def kernel_time(frame, records, threads: int, repeat: int = 3) -> float:
+def kernel_time(frame, records, threads: int, repeat: int = 9) -> float:
     """Best wall time of the batch kernel alone on preallocated, touched outputs."""
     integrator = make_method("newmark")
     plan = make_plan(records, frame.n_storeys, dt=None, scale=1.0, tail=0.0)
@@ -88,7 +88,7 @@ def kernel_time(frame, records, threads: int, repeat: int = 3) -> float:
     return best
 
 
-def run_time(frame, records, threads: int, repeat: int = 3) -> float:
+def run_time(frame, records, threads: int, repeat: int = 9) -> float:
     """Best wall time of simulate.run (plan, kernel, dataset, envelopes) in this process."""
     best = np.inf
     old = numba.get_num_threads()
