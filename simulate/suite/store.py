@@ -113,7 +113,12 @@ class RunFolder:
             raise InputError(f"{path}: not a run folder (no {MANIFEST})") from None
         except (OSError, ValueError) as exc:
             raise InputError(f"{manifest_path}: cannot be read ({exc})") from None
-        if not isinstance(manifest, dict) or manifest.get("format") != FOLDER_FORMAT:
+        found = manifest.get("format") if isinstance(manifest, dict) else None
+        if isinstance(found, str) and found.startswith(FOLDER_FORMAT.rpartition(" ")[0]) and found != FOLDER_FORMAT:
+            raise InputError(f"{path}: a run folder of another swaysim version ({manifest.get('software', '?')}, "
+                             f"layout {found!r}; this version reads {FOLDER_FORMAT!r}); finish or collect it "
+                             "with that version, or start the suite afresh")
+        if found != FOLDER_FORMAT:
             raise InputError(f"{manifest_path}: not a manifest of this program's run folders "
                              f"(expected format {FOLDER_FORMAT!r})")
         return cls(path, manifest)

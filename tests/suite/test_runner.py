@@ -319,3 +319,23 @@ def test_a_folder_that_is_not_a_run_folder_is_refused(tmp_path):
     with pytest.raises(ss.InputError, match="not a run folder"):
         RunFolder.prepare(busy, suite)
     assert sorted(p.name for p in busy.iterdir()) == ["notes.txt"]
+
+
+def test_a_run_folder_of_another_version_is_named_as_such(tmp_path):
+    """A run folder whose manifest has an older layout is refused with one line saying so,
+    and nothing in it is touched."""
+    import json
+
+    from simulate.suite.store import MANIFEST
+
+    config = write_case(tmp_path / "case", 1)
+    suite = plan_suite(ss.load_config(config))
+    folder = run_suite(suite, tmp_path / "run", quiet=True)
+    manifest = json.loads((folder.path / MANIFEST).read_text())
+    manifest["format"], manifest["software"] = "swaysim run folder 1", "swaysim 0.0.9"
+    (folder.path / MANIFEST).write_text(json.dumps(manifest))
+    before = sorted(p.name for p in folder.batch_folder.iterdir())
+    with pytest.raises(ss.InputError, match=r"another swaysim version \(swaysim 0\.0\.9, layout "
+                                            r"'swaysim run folder 1'.*start the suite afresh"):
+        RunFolder.prepare(folder.path, suite, resume=True)
+    assert sorted(p.name for p in folder.batch_folder.iterdir()) == before
