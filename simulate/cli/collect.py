@@ -6,8 +6,7 @@ from pathlib import Path
 
 import click
 
-from simulate.cli.options import debug_option
-from simulate.errors import InputError
+from simulate.cli.options import check_output_file, debug_option
 from simulate.results.netcdf import WRITERS
 from simulate.suite.jobs import TWIN
 from simulate.suite.store import RunFolder, collect, variant_output
@@ -31,15 +30,9 @@ def collect_command(run_dir: Path, output: Path, partial: bool, compress: bool):
     The file has the same variables as the one swaysim run writes, records in
     the order of the jobs; it is written atomically.
     """
-    if output.suffix.lower() not in WRITERS:
-        raise InputError(f"option -o: {output}: unknown results format {output.suffix or '(none)'!r}; "
-                         f"use a file name ending in {', '.join(WRITERS)}")
     folder = RunFolder.open(run_dir)
     for variant in dict.fromkeys(row["variant"] for row in folder.manifest["jobs"]):
-        target = variant_output(output, variant)
-        parent = target.parent if str(target.parent) else Path(".")
-        if not parent.is_dir():
-            raise InputError(f"option -o: {target}: folder {parent} does not exist")
+        check_output_file(variant_output(output, variant), tuple(WRITERS), "results")
     written = collect(folder.path, output, partial=partial, compress_histories=compress)
     for variant, path in written.items():
         jobs = [row for row in folder.manifest["jobs"] if row["variant"] == variant]

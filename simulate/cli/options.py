@@ -85,6 +85,24 @@ def _silence_stdout() -> None:
         pass
 
 
+def check_output_file(path, suffixes=(), what: str = "output", origin: str = "option -o") -> None:
+    """Fail before any work, not after it, when a file cannot be written to ``path``.
+
+    One line (InputError) for a suffix not in ``suffixes`` (when given), a path that
+    is a folder, or a folder that does not exist; ``origin`` says where the path came from.
+    """
+    path = Path(path)
+    ending = " or ".join(suffixes)
+    if suffixes and path.suffix.lower() not in suffixes:
+        raise InputError(f"{origin}: {path}: unknown {what} format {path.suffix or '(none)'!r}; "
+                         f"use a file name ending in {ending}")
+    if path.is_dir():
+        raise InputError(f"{origin}: {path} is a folder; give a file name" + (f" ending in {ending}" if ending else ""))
+    folder = path.parent if str(path.parent) else Path(".")
+    if not folder.is_dir():
+        raise InputError(f"{origin}: {path}: folder {folder} does not exist")
+
+
 def positive_float(ctx, param, value):
     """Callback: a finite number > 0 (or None)."""
     if value is None:

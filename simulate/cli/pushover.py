@@ -11,10 +11,9 @@ import numpy as np
 
 from simulate import files
 from simulate.analysis.pushover import PATTERNS, pushover
-from simulate.cli.options import config_argument, debug_option
+from simulate.cli.options import check_output_file, config_argument, debug_option
 from simulate.cli.tables import Column, caution_text, percent, render_table, sig, wrap
 from simulate.config import load_config
-from simulate.errors import InputError
 from simulate.results import write_dataset
 
 #: Output formats by file suffix.
@@ -26,15 +25,7 @@ TABLE_ROWS = 20
 
 def check_output(path: Path) -> None:
     """Fail before the analysis, not after it, when the results cannot be written to ``path``."""
-    if path.suffix.lower() not in OUTPUT_SUFFIXES:
-        raise InputError(f"option -o: {path}: unknown output format {path.suffix or '(none)'!r}; "
-                         f"use a file name ending in {' or '.join(OUTPUT_SUFFIXES)}")
-    if path.is_dir():
-        raise InputError(f"option -o: {path} is a folder; give a file name ending in "
-                         f"{' or '.join(OUTPUT_SUFFIXES)}")
-    folder = path.parent if str(path.parent) else Path(".")
-    if not folder.is_dir():
-        raise InputError(f"option -o: {path}: folder {folder} does not exist")
+    check_output_file(path, tuple(OUTPUT_SUFFIXES))
 
 
 def write_text_atomic(text: str, path: Path) -> Path:

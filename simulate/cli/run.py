@@ -21,7 +21,7 @@ import click
 import numpy as np
 import xarray as xr
 
-from simulate.cli.options import config_argument, debug_option, positive_float
+from simulate.cli.options import check_output_file, config_argument, debug_option, positive_float
 from simulate.cli.tables import (
     Column, caution_text, energy_percent, number_ranges, percent, plural, render_table, sig,
     spread, wrap,
@@ -67,14 +67,7 @@ GRAVITY_FROM = {
 
 def _check_output(path: Path, origin: str) -> None:
     """Fail before the analysis, not after it, when the results cannot be written to ``path``."""
-    if path.suffix.lower() not in WRITERS:
-        raise InputError(f"{origin}: {path}: unknown results format {path.suffix or '(none)'!r}; "
-                         f"use a file name ending in {', '.join(WRITERS)}")
-    folder = path.parent if str(path.parent) else Path(".")
-    if not folder.is_dir():
-        raise InputError(f"{origin}: {path}: folder {folder} does not exist")
-    if path.is_dir():
-        raise InputError(f"{origin}: {path} is a folder; give a file name ending in .nc")
+    check_output_file(path, tuple(WRITERS), "results", origin)
 
 
 def twin_path(target: Path) -> Path:

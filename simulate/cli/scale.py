@@ -16,7 +16,7 @@ import click
 import numpy as np
 
 from simulate.files import write_text_atomic
-from simulate.cli.options import debug_option
+from simulate.cli.options import check_output_file, debug_option
 from simulate.cli.tables import Column, render_table, sig, wrap
 from simulate.errors import InputError
 from simulate.excitation.readers import read_record
@@ -100,11 +100,7 @@ def build_target(spec: str, values: dict):
 def _check_output(path: Path) -> None:
     if path.suffix.lower() != ".toml":
         raise InputError(f"option -o: {path}: a suite file name must end in .toml")
-    folder = path.parent if str(path.parent) else Path(".")
-    if not folder.is_dir():
-        raise InputError(f"option -o: {path}: folder {folder} does not exist")
-    if path.is_dir():
-        raise InputError(f"option -o: {path} is a folder; give a file name ending in .toml")
+    check_output_file(path, (".toml",))
 
 
 def _toml_string(text: str) -> str:

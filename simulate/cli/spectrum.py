@@ -13,7 +13,7 @@ from simulate.files import write_atomic
 from simulate.cli.motions import (
     damping_option, damping_text, dt_option, files_argument, option_damping, read_records, units_option,
 )
-from simulate.cli.options import debug_option
+from simulate.cli.options import check_output_file, debug_option
 from simulate.cli.tables import Column, caution_text, render_table, sig, wrap
 from simulate.errors import InputError
 from simulate.excitation.spectra import (
@@ -93,14 +93,7 @@ def table_periods(periods: np.ndarray, limit: int = TABLE_PERIODS) -> list[int]:
 
 def check_output(path: Path) -> None:
     """Fail before computing, not after, when the spectra cannot be written to ``path``."""
-    if path.suffix.lower() not in OUTPUT_SUFFIXES:
-        raise InputError(f"option -o: {path}: unknown spectra format {path.suffix or '(none)'!r}; "
-                         f"use a file name ending in {' or '.join(OUTPUT_SUFFIXES)}")
-    folder = path.parent if str(path.parent) else Path(".")
-    if not folder.is_dir():
-        raise InputError(f"option -o: {path}: folder {folder} does not exist")
-    if path.is_dir():
-        raise InputError(f"option -o: {path} is a folder; give a file name")
+    check_output_file(path, tuple(OUTPUT_SUFFIXES), "spectra")
 
 
 def _mu_text(mu: float) -> str:

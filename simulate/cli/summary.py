@@ -21,7 +21,7 @@ import click
 import numpy as np
 
 from simulate.files import write_text_atomic
-from simulate.cli.options import debug_option
+from simulate.cli.options import check_output_file, debug_option
 from simulate.cli.tables import Column, caution_text, percent, plural, render_table, sig, wrap
 from simulate.errors import InputError
 from simulate.results import read_dataset
@@ -354,11 +354,7 @@ FORMATS = {"table": summary_table, "csv": summary_csv, "json": summary_json}
 
 def check_output(path: Path) -> None:
     """Fail before reading, not after, when the summary cannot be written to ``path``."""
-    if path.is_dir():
-        raise InputError(f"option -o: {path} is a folder; give a file name")
-    folder = path.parent if str(path.parent) else Path(".")
-    if not folder.is_dir():
-        raise InputError(f"option -o: {path}: folder {folder} does not exist")
+    check_output_file(path)
 
 
 def write_text(text: str, path: Path) -> Path:
