@@ -95,6 +95,7 @@ from pathlib import Path
 
 import numpy as np
 
+from simulate.files import read_input
 from simulate.errors import ConfigError, InputError
 from simulate.excitation import FloorForces, Record, harmonic_floor_force, harmonic_ground_motion
 from simulate.excitation.record import normalise_units
@@ -478,14 +479,7 @@ def load_config(path) -> Config:
     """
     path = Path(path)
     source = str(path)
-    try:
-        raw = path.read_bytes()
-    except FileNotFoundError:
-        raise ConfigError(f"{source}: no such config file") from None
-    except IsADirectoryError:
-        raise ConfigError(f"{source}: is a folder, not a config file") from None
-    except OSError as exc:
-        raise ConfigError(f"{source}: cannot be read ({exc.strerror or exc})") from None
+    raw = read_input(path, ConfigError, "config file", missing="no such config file")
     try:
         text = raw.decode("utf-8")
     except UnicodeDecodeError as exc:

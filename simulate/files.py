@@ -91,6 +91,23 @@ def _no_space(exc: BaseException) -> bool:
     return False
 
 
+def read_input(path, error=InputError, kind: str = "file", missing: str = "no such file") -> bytes:
+    """The bytes of an input file the user named; ``error`` with one line naming it when it cannot be read.
+
+    ``kind`` names what the file should be ("is a folder, not a <kind>"), ``missing``
+    is the message for a path that does not exist.
+    """
+    source = str(path)
+    try:
+        return Path(path).read_bytes()
+    except FileNotFoundError:
+        raise error(f"{source}: {missing}") from None
+    except IsADirectoryError:
+        raise error(f"{source}: is a folder, not a {kind}") from None
+    except OSError as exc:
+        raise error(f"{source}: cannot be read ({exc.strerror or exc})") from None
+
+
 def write_text_atomic(path, text: str) -> Path:
     """Write ``text`` (UTF-8) to ``path`` durably and atomically."""
     return write_atomic(path, lambda tmp: Path(tmp).write_text(text, encoding="utf-8"))

@@ -92,7 +92,7 @@ from pathlib import Path
 
 import numpy as np
 
-from simulate.files import write_atomic
+from simulate.files import read_input, write_atomic
 from simulate.errors import RecordError, where
 from simulate.excitation.record import Record, normalise_units
 
@@ -139,15 +139,8 @@ class _TextFile:
 
 
 def _read_lines(path: Path, source: str) -> list[str]:
-    try:
-        with open(path, encoding="utf-8", errors="replace") as handle:
-            return handle.read().splitlines()
-    except FileNotFoundError:
-        raise RecordError(f"{source}: no such file") from None
-    except IsADirectoryError:
-        raise RecordError(f"{source}: is a folder, not a record file") from None
-    except OSError as exc:
-        raise RecordError(f"{source}: cannot be read ({exc.strerror or exc})") from None
+    raw = read_input(source, RecordError, "record file")
+    return raw.decode("utf-8", errors="replace").splitlines()
 
 
 def _scan_text(path: Path, source: str, skip: int, values_layout: bool | None) -> _TextFile:

@@ -61,6 +61,7 @@ from dataclasses import dataclass, field
 from numbers import Integral, Real
 from pathlib import Path
 
+from simulate.files import read_input
 from simulate.errors import ConfigError, RecordError, where
 from simulate.excitation.readers import read_records
 from simulate.excitation.record import Record
@@ -285,14 +286,11 @@ def suite_entries(path) -> list[SuiteEntry]:
     suffix = path.suffix.lower()
     if suffix not in (".toml", ".csv"):
         raise ConfigError(f"{source}: unknown suite file suffix {path.suffix or '(none)'!r} (known: .csv, .toml)")
+    raw = read_input(path, ConfigError, "suite file")
     try:
-        text = path.read_text(encoding="utf-8")
-    except FileNotFoundError:
-        raise ConfigError(f"{source}: no such file") from None
-    except IsADirectoryError:
-        raise ConfigError(f"{source}: is a folder, not a suite file") from None
-    except (OSError, UnicodeDecodeError) as exc:
-        raise ConfigError(f"{source}: cannot be read ({getattr(exc, 'strerror', None) or exc})") from None
+        text = raw.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        raise ConfigError(f"{source}: cannot be read ({exc})") from None
     reader = _toml_suite if suffix == ".toml" else _csv_suite
     entries = reader(text, source, path.parent)
     if not entries:

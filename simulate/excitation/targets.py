@@ -28,6 +28,7 @@ from pathlib import Path
 
 import numpy as np
 
+from simulate.files import read_input
 from simulate.errors import InputError, where
 
 __all__ = [
@@ -397,14 +398,8 @@ class FileSpectrum(Target):
     @staticmethod
     def _read(path: Path) -> tuple[np.ndarray, np.ndarray]:
         source = str(path)
-        try:
-            lines = path.read_text(encoding="utf-8", errors="replace").splitlines()
-        except FileNotFoundError:
-            raise InputError(f"{source}: no such target spectrum file") from None
-        except IsADirectoryError:
-            raise InputError(f"{source}: is a folder, not a target spectrum file") from None
-        except OSError as exc:
-            raise InputError(f"{source}: cannot be read ({exc.strerror or exc})") from None
+        raw = read_input(path, InputError, "target spectrum file", missing="no such target spectrum file")
+        lines = raw.decode("utf-8", errors="replace").splitlines()
         periods, values, previous = [], [], None
         for number, line in enumerate(lines, start=1):
             text = line.strip()
